@@ -1,6 +1,27 @@
-var builder = WebApplication.CreateBuilder(args);
+using CalBudget.Api.Budgets;
+using CalBudget.Api.Cli;
+using CalBudget.Api.Health;
+using CalBudget.Api.Hosting;
+using CalBudget.Api.Keys;
+
+if (CommandLine.IsCommand(args))
+{
+    return await CommandLine.RunAsync(args, Console.Out, Console.Error);
+}
+
+var builder = WebApplication.CreateBuilder(new WebApplicationOptions { Args = args, ContentRootPath = AppContext.BaseDirectory });
+builder.AddCalBudgetHost();
+
 var app = builder.Build();
+app.UseCalBudgetPipeline();
+app.MapOpenApi("/openapi/{documentName}.json").AllowAnonymous();
+app.MapHealthApi();
+app.MapBudgetsApi();
+app.MapKeysApi();
 
-app.MapGet("/", () => "Hello World!");
+await app.Services.InitialiseDatabaseAsync(seedDemoData: app.Environment.IsDevelopment());
+await app.RunAsync();
+return 0;
 
-app.Run();
+/// <summary>The host's entry point (public for the HTTP tests' WebApplicationFactory).</summary>
+public partial class Program;

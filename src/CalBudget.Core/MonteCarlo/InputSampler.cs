@@ -5,92 +5,142 @@ namespace CalBudget.Core.MonteCarlo;
 
 /// <summary>
 /// Draws the deviation X_i - x_i of one input, scaled by its sensitivity, and adds it to a block of output trials.
-/// Each kind has a direct method that needs no special function on most draws:
-/// normal by ziggurat; rectangular a(2U - 1); triangular a(U1 + U2 - 1); U-shaped a cos(2 theta) from a point
-/// uniform in the unit disc; Student's t by Bailey's polar method (R. W. Bailey, Math. Comp. 62, 1994).
+/// Each kind has an exact method that needs no special function on most draws:
+/// normal by ziggurat; rectangular a(2U - 1); triangular a(U1 + U2 - 1) from the two 32-bit halves of one draw;
+/// U-shaped a sin(pi (U - 1/2)) with sin as its Taylor polynomial to the 17th power (error below 5e-14 on the range);
+/// Student's t as Z sqrt(nu / X) with X chi-squared, 2 Gamma(nu / 2) by Marsaglia and Tsang's method
+/// (ACM TOMS 26, 2000), boosted by U^(1/a) for shape a &lt; 1.
 /// </summary>
 internal static class InputSampler
 {
-    public static void AddIndependent(ref Xoshiro256 rng, InputDistribution d, double sensitivity, Span<double> output)
+    // sin(x) for |x| <= pi/2 by its Taylor polynomial through x^17 (the first omitted term is below 4.4e-14).
+    [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveInlining)]
+    internal static double SinHalfPiRange(double x)
     {
-        switch (d.Kind)
+        double x2 = x * x;
+        double p = 1.0 / 355687428096000.0;           // 1/17!
+        p = p * x2 - 1.0 / 1307674368000.0;           // 1/15!
+        p = p * x2 + 1.0 / 6227020800.0;              // 1/13!
+        p = p * x2 - 1.0 / 39916800.0;                // 1/11!
+        p = p * x2 + 1.0 / 362880.0;                  // 1/9!
+        p = p * x2 - 1.0 / 5040.0;                    // 1/7!
+        p = p * x2 + 1.0 / 120.0;                     // 1/5!
+        p = p * x2 - 1.0 / 6.0;                       // 1/3!
+        p = p * x2 + 1.0;
+        return x * p;
+    }
+
+    public static void AddIndependent(ref Xoshiro256 state, InputDistribution d, double sensitivity, Span<double> output)
+    {
+        // Each loop takes the generator by value and hands it back: a by-value copy can live in registers, whereas
+        // through a ref every draw would read and write its state in memory (seen in the JIT's output; about 2x slower).
+        state = d.Kind switch
         {
-            case DistributionKind.Normal:
-                {
-                    double s = sensitivity * d.StandardUncertainty;
-                    for (int j = 0; j < output.Length; j++)
-                    {
-                        output[j] += s * Ziggurat.Next(ref rng);
-                    }
+            DistributionKind.Normal => Normal(state, sensitivity * d.StandardUncertainty, output),
+            DistributionKind.Rectangular => Rectangular(state, sensitivity * d.HalfWidth, output),
+            DistributionKind.Triangular => Triangular(state, sensitivity * d.HalfWidth, output),
+            DistributionKind.UShaped => UShaped(state, sensitivity * d.HalfWidth, output),
+            DistributionKind.StudentT => StudentT(state, sensitivity * d.StandardUncertainty, d.ShapeDegreesOfFreedom, output),
+            _ => throw new InvalidOperationException($"No sampler for {d.Kind}."),
+        };
+    }
 
-                    break;
-                }
-
-            case DistributionKind.Rectangular:
-                {
-                    double s = sensitivity * d.HalfWidth;
-                    for (int j = 0; j < output.Length; j++)
-                    {
-                        output[j] += s * rng.NextSigned();
-                    }
-
-                    break;
-                }
-
-            case DistributionKind.Triangular:
-                {
-                    double s = sensitivity * d.HalfWidth;
-                    for (int j = 0; j < output.Length; j++)
-                    {
-                        output[j] += s * (rng.NextDouble() + rng.NextDouble() - 1.0);
-                    }
-
-                    break;
-                }
-
-            case DistributionKind.UShaped:
-                {
-                    double s = sensitivity * d.HalfWidth;
-                    for (int j = 0; j < output.Length; j++)
-                    {
-                        double u, v, w;
-                        do
-                        {
-                            u = rng.NextSigned();
-                            v = rng.NextSigned();
-                            w = u * u + v * v;
-                        }
-                        while (w >= 1.0 || w == 0.0);
-                        output[j] += s * (u * u - v * v) / w;
-                    }
-
-                    break;
-                }
-
-            case DistributionKind.StudentT:
-                {
-                    double s = sensitivity * d.StandardUncertainty;
-                    double nu = d.ShapeDegreesOfFreedom;
-                    double exponent = -2.0 / nu;
-                    for (int j = 0; j < output.Length; j++)
-                    {
-                        double u, v, w;
-                        do
-                        {
-                            u = rng.NextSigned();
-                            v = rng.NextSigned();
-                            w = u * u + v * v;
-                        }
-                        while (w >= 1.0 || w == 0.0);
-                        output[j] += s * u * Math.Sqrt(nu * (Math.Exp(exponent * Math.Log(w)) - 1.0) / w);
-                    }
-
-                    break;
-                }
-
-            default:
-                throw new InvalidOperationException($"No sampler for {d.Kind}.");
+    private static Xoshiro256 Normal(Xoshiro256 rng, double s, Span<double> output)
+    {
+        for (int j = 0; j < output.Length; j++)
+        {
+            output[j] += s * Ziggurat.Next(ref rng);
         }
+
+        return rng;
+    }
+
+    private static Xoshiro256 Rectangular(Xoshiro256 rng, double s, Span<double> output)
+    {
+        for (int j = 0; j < output.Length; j++)
+        {
+            output[j] += s * rng.NextSigned();
+        }
+
+        return rng;
+    }
+
+    private static Xoshiro256 Triangular(Xoshiro256 rng, double s, Span<double> output)
+    {
+        const double Scale = 1.0 / 4294967296.0;
+        for (int j = 0; j < output.Length; j++)
+        {
+            ulong bits = rng.NextUInt64();
+            output[j] += s * (((long)(bits >> 32) + (long)(uint)bits + 1.0) * Scale - 1.0);
+        }
+
+        return rng;
+    }
+
+    private static Xoshiro256 UShaped(Xoshiro256 rng, double s, Span<double> output)
+    {
+        for (int j = 0; j < output.Length; j++)
+        {
+            output[j] += s * SinHalfPiRange(Math.PI * (rng.NextDouble() - 0.5));
+        }
+
+        return rng;
+    }
+
+    private static Xoshiro256 StudentT(Xoshiro256 rng, double s, double nu, Span<double> output)
+    {
+        var gamma = new GammaSampler(0.5 * nu);
+        double halfNu = 0.5 * nu;
+        for (int j = 0; j < output.Length; j++)
+        {
+            double z = Ziggurat.Next(ref rng);
+            // chi-squared(nu) = 2 Gamma(nu/2), so sqrt(nu / chi2) = sqrt((nu/2) / Gamma(nu/2))
+            output[j] += s * z * Math.Sqrt(halfNu / gamma.Next(ref rng));
+        }
+
+        return rng;
+    }
+}
+
+/// <summary>Gamma(a, 1) deviates by Marsaglia and Tsang's squeeze method (ACM TOMS 26, 2000), for any shape a &gt; 0.</summary>
+internal readonly struct GammaSampler
+{
+    private readonly double _d;
+    private readonly double _c;
+    private readonly double _boost; // 1/a when a < 1 (Gamma(a) = Gamma(a + 1) U^(1/a)), else 0
+
+    public GammaSampler(double shape)
+    {
+        double a = shape < 1 ? shape + 1 : shape;
+        _d = a - 1.0 / 3.0;
+        _c = 1.0 / Math.Sqrt(9.0 * _d);
+        _boost = shape < 1 ? 1.0 / shape : 0;
+    }
+
+    [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveInlining)]
+    public double Next(ref Xoshiro256 rng)
+    {
+        double g;
+        while (true)
+        {
+            double x = Ziggurat.Next(ref rng);
+            double v = 1.0 + _c * x;
+            if (v <= 0)
+            {
+                continue;
+            }
+
+            v = v * v * v;
+            double u = rng.NextOpenDouble();
+            double x2 = x * x;
+            if (u < 1.0 - 0.0331 * x2 * x2 || Math.Log(u) < 0.5 * x2 + _d * (1.0 - v + Math.Log(v)))
+            {
+                g = _d * v;
+                break;
+            }
+        }
+
+        return _boost == 0 ? g : g * Math.Exp(Math.Log(rng.NextOpenDouble()) * _boost);
     }
 }
 

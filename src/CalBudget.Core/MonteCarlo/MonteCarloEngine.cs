@@ -79,11 +79,20 @@ public static class MonteCarloEngine
             throw new MetrologyException("monteCarlo.trials", $"At most {options.MaxTrials} trials are allowed here.") { NotComputable = true };
         }
 
-        var values = new double[trials];
-        model.Fill(values, options.Seed, stream: 0, parallel);
-        var (mean, sd) = MeanAndDeviation(values, parallel);
-        var (symmetric, shortest) = CoverageIntervals.Compute(values, p);
-        return new MonteCarloResult(trials, mean, sd, p, symmetric, shortest, options.Seed, Adaptive: false, Stabilized: true, null);
+        // The output buffer is rented: a new 8 MB array would be zeroed and page-faulted on every call.
+        var rented = System.Buffers.ArrayPool<double>.Shared.Rent((int)trials);
+        try
+        {
+            var values = rented.AsMemory(0, (int)trials);
+            var moments = model.Fill(values, options.Seed, stream: 0, parallel);
+            var (mean, sd) = Moments.Deviation(moments);
+            var (symmetric, shortest) = CoverageIntervals.Compute(values, p, moments.Min, moments.Max, parallel);
+            return new MonteCarloResult(trials, mean, sd, p, symmetric, shortest, options.Seed, Adaptive: false, Stabilized: true, null);
+        }
+        finally
+        {
+            System.Buffers.ArrayPool<double>.Shared.Return(rented);
+        }
     }
 
     // JCGM 101 7.9.4: sequences of M trials until twice the standard deviation of the mean of each of y, u(y), y_low and
@@ -101,6 +110,7 @@ public static class MonteCarloEngine
 
         int wave = Math.Max(2, 2 * parallel.MaxDegreeOfParallelism);
         var stats = new List<(double Mean, double Sd, double Low, double High)>();
+        var moments = new List<Moments>();
         var all = new List<double[]>();
         bool stabilized = false;
         while (!stabilized && stats.Count < maxBatches)
@@ -109,13 +119,13 @@ public static class MonteCarloEngine
             int first = stats.Count;
             var blocks = new double[count][];
             var waveStats = new (double, double, double, double)[count];
+            var waveMoments = new Moments[count];
             Parallel.For(0, count, parallel, b =>
             {
                 var v = new double[batch];
-                model.Fill(v, options.Seed, stream: first + b, new ParallelOptions { MaxDegreeOfParallelism = 1 });
-                var (mean, sd) = MeanAndDeviation(v, new ParallelOptions { MaxDegreeOfParallelism = 1 });
-                var copy = (double[])v.Clone();
-                var (sym, _) = CoverageIntervals.Compute(copy, p);
+                waveMoments[b] = model.Fill(v, options.Seed, stream: first + b, new ParallelOptions { MaxDegreeOfParallelism = 1 });
+                var (mean, sd) = Moments.Deviation(waveMoments[b]);
+                var (sym, _) = CoverageIntervals.Compute(v, p, waveMoments[b].Min, waveMoments[b].Max, new ParallelOptions { MaxDegreeOfParallelism = 1 });
                 blocks[b] = v;
                 waveStats[b] = (mean, sd, sym.Low, sym.High);
             });
@@ -123,6 +133,7 @@ public static class MonteCarloEngine
             for (int b = 0; b < count && !stabilized; b++)
             {
                 stats.Add(waveStats[b]);
+                moments.Add(waveMoments[b]);
                 all.Add(blocks[b]);
                 stabilized = stats.Count >= 2 && IsStable(stats, options.SignificantDigits);
             }
@@ -135,8 +146,9 @@ public static class MonteCarloEngine
             all[b].CopyTo(values, (long)b * batch);
         }
 
-        var (m, u) = MeanAndDeviation(values, parallel);
-        var (symmetric, shortest) = CoverageIntervals.Compute(values, p);
+        var overall = Moments.Combine(moments);
+        var (m, u) = Moments.Deviation(overall);
+        var (symmetric, shortest) = CoverageIntervals.Compute(values, p, overall.Min, overall.Max, parallel);
         return new MonteCarloResult(total, m, u, p, symmetric, shortest, options.Seed, Adaptive: true, stabilized, null);
     }
 
@@ -164,42 +176,10 @@ public static class MonteCarloEngine
         return ss / (population ? x.Length : x.Length - 1);
     }
 
-    // Two passes, each summed per chunk and then in chunk order, so the result does not depend on thread scheduling.
-    private static (double Mean, double Sd) MeanAndDeviation(double[] values, ParallelOptions parallel)
+    internal static Span<double> ChunkOf(Memory<double> values, int chunk)
     {
-        int chunks = (int)((values.LongLength + ChunkSize - 1) / ChunkSize);
-        var partial = new double[chunks];
-        Parallel.For(0, chunks, parallel, c =>
-        {
-            var span = ChunkOf(values, c);
-            double s = 0;
-            foreach (double v in span)
-            {
-                s += v;
-            }
-
-            partial[c] = s;
-        });
-        double mean = partial.Sum() / values.LongLength;
-        Parallel.For(0, chunks, parallel, c =>
-        {
-            var span = ChunkOf(values, c);
-            double s = 0;
-            foreach (double v in span)
-            {
-                double d = v - mean;
-                s += d * d;
-            }
-
-            partial[c] = s;
-        });
-        return (mean, Math.Sqrt(partial.Sum() / (values.LongLength - 1)));
-    }
-
-    internal static Span<double> ChunkOf(double[] values, long chunk)
-    {
-        long start = chunk * ChunkSize;
-        return values.AsSpan((int)start, (int)Math.Min(ChunkSize, values.LongLength - start));
+        int start = chunk * ChunkSize;
+        return values.Span.Slice(start, Math.Min(ChunkSize, values.Length - start));
     }
 
     /// <summary>The budget prepared for sampling: the constant part of y, the independent inputs and the copula.</summary>
@@ -238,9 +218,12 @@ public static class MonteCarloEngine
             }
         }
 
-        public void Fill(double[] values, ulong seed, long stream, ParallelOptions parallel)
+        // Fills the trials chunk by chunk and returns their moments, each chunk's taken while it is still in cache and
+        // combined in chunk order, so the result does not depend on thread scheduling.
+        public Moments Fill(Memory<double> values, ulong seed, long stream, ParallelOptions parallel)
         {
-            int chunks = (int)((values.LongLength + ChunkSize - 1) / ChunkSize);
+            int chunks = (values.Length + ChunkSize - 1) / ChunkSize;
+            var parts = new Moments[chunks];
             Parallel.For(0, chunks, parallel, c =>
             {
                 var rng = Xoshiro256.ForChunk(seed, stream, c);
@@ -255,7 +238,10 @@ public static class MonteCarloEngine
                 {
                     AddCorrelated(ref rng, span);
                 }
+
+                parts[c] = Moments.Of(span);
             });
+            return Moments.Combine(parts);
         }
 
         private void AddCorrelated(ref Xoshiro256 rng, Span<double> output)
@@ -285,4 +271,50 @@ public static class MonteCarloEngine
             }
         }
     }
+}
+
+/// <summary>Count, mean and sum of squared deviations of a set of values; parts combine exactly (Chan, Golub and LeVeque, 1979).</summary>
+internal readonly record struct Moments(long Count, double Mean, double SquaredDeviations, double Min, double Max)
+{
+    public static Moments Of(ReadOnlySpan<double> values)
+    {
+        double sum = 0;
+        double min = double.PositiveInfinity, max = double.NegativeInfinity;
+        foreach (double v in values)
+        {
+            sum += v;
+            // plain comparisons: the values are finite, so Math.Min's NaN and signed-zero care is not needed
+            min = v < min ? v : min;
+            max = v > max ? v : max;
+        }
+
+        double mean = sum / values.Length;
+        double ss = 0;
+        foreach (double v in values)
+        {
+            double d = v - mean;
+            ss += d * d;
+        }
+
+        return new Moments(values.Length, mean, ss, min, max);
+    }
+
+    public static Moments Combine(IReadOnlyList<Moments> parts)
+    {
+        var total = parts[0];
+        for (int i = 1; i < parts.Count; i++)
+        {
+            var b = parts[i];
+            long n = total.Count + b.Count;
+            double delta = b.Mean - total.Mean;
+            total = new Moments(n, total.Mean + delta * b.Count / n,
+                total.SquaredDeviations + b.SquaredDeviations + delta * delta * ((double)total.Count * b.Count / n),
+                Math.Min(total.Min, b.Min), Math.Max(total.Max, b.Max));
+        }
+
+        return total;
+    }
+
+    /// <summary>The mean and the sample standard deviation (divisor n - 1).</summary>
+    public static (double Mean, double Sd) Deviation(Moments m) => (m.Mean, Math.Sqrt(m.SquaredDeviations / (m.Count - 1)));
 }

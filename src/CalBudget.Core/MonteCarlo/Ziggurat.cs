@@ -1,4 +1,5 @@
 using System.Runtime.CompilerServices;
+using System.Runtime.InteropServices;
 
 namespace CalBudget.Core.MonteCarlo;
 
@@ -23,12 +24,14 @@ internal static class Ziggurat
             ulong bits = rng.NextUInt64();
             int i = (int)(bits & (Layers - 1));
             double u = ((long)bits >> 11) * (1.0 / (1UL << 52)); // (-1, 1), independent of the layer bits
-            if (Math.Abs(u) < Ratio[i])
+            // i < 128 by the mask and both tables are longer, so the bounds checks can go
+            if (Math.Abs(u) < Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(Ratio), i))
             {
-                return u * X[i];
+                return u * Unsafe.Add(ref MemoryMarshal.GetArrayDataReference(X), i);
             }
 
-            double z = Slow(ref rng, i, u);
+            // The rare path takes and returns the generator by value, so that the hot path's state can stay in registers.
+            (double z, rng) = Slow(rng, i, u);
             if (!double.IsNaN(z))
             {
                 return z;
@@ -36,7 +39,8 @@ internal static class Ziggurat
         }
     }
 
-    private static double Slow(ref Xoshiro256 rng, int i, double u)
+    [MethodImpl(MethodImplOptions.NoInlining)]
+    private static (double Z, Xoshiro256 Rng) Slow(Xoshiro256 rng, int i, double u)
     {
         if (i == 0)
         {
@@ -47,13 +51,13 @@ internal static class Ziggurat
                 y = -Math.Log(rng.NextOpenDouble());
             }
             while (y + y < x * x);
-            return u < 0 ? -(R + x) : R + x;
+            return (u < 0 ? -(R + x) : R + x, rng);
         }
 
         double xi = u * X[i];
         double f0 = Math.Exp(-0.5 * (X[i] * X[i] - xi * xi));
         double f1 = Math.Exp(-0.5 * (X[i + 1] * X[i + 1] - xi * xi));
-        return f1 + rng.NextDouble() * (f0 - f1) < 1.0 ? xi : double.NaN;
+        return (f1 + rng.NextDouble() * (f0 - f1) < 1.0 ? xi : double.NaN, rng);
     }
 
     private static double[] BuildX()

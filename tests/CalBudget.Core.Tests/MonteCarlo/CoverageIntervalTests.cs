@@ -37,7 +37,7 @@ public class CoverageIntervalTests
         // a skewed sample with ties, to exercise the partition
         var v = Enumerable.Range(0, m).Select(_ => Math.Round(Math.Exp(random.NextDouble() * 3) * 100) / 100).ToArray();
         var expected = Reference(v, p);
-        Assert.Equal(expected, CoverageIntervals.Compute((double[])v.Clone(), p));
+        Assert.Equal(expected, CoverageIntervals.Compute(v, p));
     }
 
     [Fact]
@@ -48,18 +48,55 @@ public class CoverageIntervalTests
     }
 
     [Fact]
-    public void SelectPutsTheKthValueInPlace()
+    public void AFarOutlierFallsBackToSortingAndStaysExact()
     {
-        var random = new Random(7);
-        for (int trial = 0; trial < 50; trial++)
+        var random = new Random(11);
+        var v = Enumerable.Range(0, 20_000).Select(_ => random.NextDouble()).ToArray();
+        v[123] = 1e300; // every other value lands in the histogram's first bin
+        Assert.Equal(Reference(v, 0.95), CoverageIntervals.Compute(v, 0.95));
+    }
+
+    [Fact]
+    public void IdenticalValuesGiveAZeroLengthInterval()
+    {
+        var v = Enumerable.Repeat(4.25, 5_000).ToArray();
+        var (sym, shortest) = CoverageIntervals.Compute(v, 0.95);
+        Assert.Equal(new Interval(4.25, 4.25), sym);
+        Assert.Equal(0, shortest.Length);
+    }
+
+    [Fact]
+    public void TheInputIsNotReordered()
+    {
+        var random = new Random(5);
+        var v = Enumerable.Range(0, 30_000).Select(_ => random.NextDouble()).ToArray();
+        var before = (double[])v.Clone();
+        CoverageIntervals.Compute(v, 0.9);
+        Assert.Equal(before, v);
+    }
+}
+
+public class RadixSortTests
+{
+    [Theory]
+    [InlineData(300, 1)]
+    [InlineData(10_000, 2)]
+    [InlineData(65_537, 3)]
+    public void SortsLikeArraySortAcrossSignsMagnitudesAndTies(int n, int seed)
+    {
+        var random = new Random(seed);
+        var v = Enumerable.Range(0, n).Select(i => (i % 7) switch
         {
-            var v = Enumerable.Range(0, random.Next(1, 500)).Select(_ => (double)random.Next(0, 50)).ToArray();
-            int k = random.Next(v.Length);
-            var sorted = v.Order().ToArray();
-            CoverageIntervals.Select(v, k);
-            Assert.Equal(sorted[k], v[k]);
-            Assert.All(v[..k], x => Assert.True(x <= v[k]));
-            Assert.All(v[(k + 1)..], x => Assert.True(x >= v[k]));
-        }
+            0 => -random.NextDouble() * 1e-12,
+            1 => random.NextDouble() * 1e9,
+            2 => -random.NextDouble() * 1e200,
+            3 => 0.0,
+            4 => -3.5,
+            _ => (random.NextDouble() - 0.5) * 2,
+        }).ToArray();
+        var expected = (double[])v.Clone();
+        Array.Sort(expected);
+        CoverageIntervals.RadixSort(v);
+        Assert.Equal(expected, v);
     }
 }

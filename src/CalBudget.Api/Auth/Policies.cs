@@ -1,0 +1,28 @@
+using CalBudget.Data.Keys;
+
+namespace CalBudget.Api.Auth;
+
+/// <summary>
+/// The authorization policies, each a set of roles; route groups require one of them. <see cref="RolesOf"/> feeds the
+/// OpenAPI document and the role matrix in DEVELOPERS.md.
+/// </summary>
+public static class Policies
+{
+    /// <summary>Any valid key, whatever its role.</summary>
+    public const string AnyRole = "any-role";
+
+    /// <summary>Administrators only.</summary>
+    public const string Admin = "admin";
+
+    private static readonly Dictionary<string, string[]> Definitions = new(StringComparer.Ordinal)
+    {
+        [AnyRole] = [.. Roles.All],
+        [Admin] = [Roles.Admin],
+    };
+
+    /// <summary>Every policy name with its roles.</summary>
+    public static IReadOnlyDictionary<string, string[]> All => Definitions;
+
+    /// <summary>The roles a policy admits.</summary>
+    public static IReadOnlyList<string> RolesOf(string policy) => Definitions[policy];
+}

@@ -1,0 +1,23 @@
+namespace CalBudget.Api.Hosting;
+
+/// <summary>The service's settings, section <c>CalBudget</c> (environment variables <c>CalBudget__Name</c>).</summary>
+public sealed class CalBudgetOptions
+{
+    /// <summary>The configuration section.</summary>
+    public const string Section = "CalBudget";
+
+    /// <summary>The address used when neither <c>--urls</c> nor <c>ASPNETCORE_URLS</c> names one.</summary>
+    public const string DefaultUrl = "http://127.0.0.1:5080";
+
+    /// <summary>Where the database file lives; relative paths are taken from the working directory. Created on start.</summary>
+    public string DataDirectory { get; set; } = "./data";
+
+    /// <summary>The largest request body accepted, in bytes (413 beyond it).</summary>
+    public long MaxRequestBodyBytes { get; set; } = 32L * 1024 * 1024;
+
+    /// <summary>The ceiling on Monte Carlo trials per evaluation (422 beyond it).</summary>
+    public long MonteCarloMaxTrials { get; set; } = Core.MonteCarlo.MonteCarloOptions.DefaultMaxTrials;
+
+    /// <summary>How long a graceful shutdown waits for requests in flight.</summary>
+    public TimeSpan ShutdownTimeout { get; set; } = TimeSpan.FromSeconds(30);
+}

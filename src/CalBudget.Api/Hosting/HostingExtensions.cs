@@ -1,0 +1,90 @@
+using System.Text.Json;
+using System.Text.Json.Serialization;
+using CalBudget.Api.Auth;
+using CalBudget.Api.OpenApi;
+using CalBudget.Data;
+using CalBudget.Data.Keys;
+using Microsoft.AspNetCore.Authentication;
+using Microsoft.AspNetCore.Authorization;
+using Microsoft.AspNetCore.Http.Json;
+using Microsoft.Extensions.Options;
+
+namespace CalBudget.Api.Hosting;
+
+/// <summary>How the host is put together; <c>Program.cs</c> only calls these.</summary>
+public static class HostingExtensions
+{
+    /// <summary>Settings, server limits, logging, JSON, problem details, data, keys and authorization.</summary>
+    public static WebApplicationBuilder AddCalBudgetHost(this WebApplicationBuilder builder)
+    {
+        ArgumentNullException.ThrowIfNull(builder);
+        var section = builder.Configuration.GetSection(CalBudgetOptions.Section);
+        var settings = section.Get<CalBudgetOptions>() ?? new CalBudgetOptions();
+        builder.Services.Configure<CalBudgetOptions>(section);
+        if (string.IsNullOrEmpty(builder.Configuration["urls"]) && string.IsNullOrEmpty(builder.Configuration["http_ports"]))
+        {
+            builder.WebHost.UseUrls(CalBudgetOptions.DefaultUrl);
+        }
+
+        builder.WebHost.ConfigureKestrel(k =>
+        {
+            k.AddServerHeader = false;
+            k.Limits.MaxRequestBodySize = settings.MaxRequestBodyBytes;
+        });
+        builder.Services.Configure<HostOptions>(h => h.ShutdownTimeout = settings.ShutdownTimeout);
+
+        builder.Services.Configure<JsonOptions>(o =>
+        {
+            // Numbers must be JSON numbers and unknown properties are refused: a misspelt field is an error, not a silent default.
+            o.SerializerOptions.NumberHandling = JsonNumberHandling.Strict;
+            o.SerializerOptions.UnmappedMemberHandling = JsonUnmappedMemberHandling.Disallow;
+            o.SerializerOptions.DefaultIgnoreCondition = JsonIgnoreCondition.Never;
+            o.SerializerOptions.PropertyNamingPolicy = JsonNamingPolicy.CamelCase;
+        });
+        builder.Services.Configure<RouteHandlerOptions>(o => o.ThrowOnBadRequest = true);
+        builder.Services.AddProblemDetails(o => o.CustomizeProblemDetails = c =>
+        {
+            c.ProblemDetails.Instance ??= c.HttpContext.Request.Path;
+            c.ProblemDetails.Extensions["requestId"] = c.HttpContext.TraceIdentifier;
+        });
+        builder.Services.AddExceptionHandler<RequestExceptionHandler>();
+
+        builder.Services.AddSingleton(TimeProvider.System);
+        builder.Services.AddSingleton(sp => new SqliteDatabase(sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value.DataDirectory));
+        builder.Services.AddSingleton<IDbConnectionFactory>(sp => sp.GetRequiredService<SqliteDatabase>());
+        builder.Services.AddSingleton<ApiKeyStore>();
+
+        builder.Services.AddAuthentication(ApiKeyAuthenticationHandler.SchemeName)
+            .AddScheme<AuthenticationSchemeOptions, ApiKeyAuthenticationHandler>(ApiKeyAuthenticationHandler.SchemeName, null);
+        builder.Services.AddAuthorizationBuilder().AddCalBudgetPolicies();
+        builder.Services.AddCalBudgetOpenApi();
+        return builder;
+    }
+
+    private static AuthorizationBuilder AddCalBudgetPolicies(this AuthorizationBuilder auth)
+    {
+        foreach (var (name, roles) in Policies.All)
+        {
+            auth.AddPolicy(name, p => p.RequireAuthenticatedUser().RequireRole(roles));
+        }
+
+        return auth;
+    }
+
+    /// <summary>The request pipeline: errors as problem details, the body limit, a request id header, auth.</summary>
+    public static WebApplication UseCalBudgetPipeline(this WebApplication app)
+    {
+        ArgumentNullException.ThrowIfNull(app);
+        app.UseExceptionHandler();
+        app.UseStatusCodePages();
+        app.Use((context, next) =>
+        {
+            context.Response.Headers["X-Request-Id"] = context.TraceIdentifier;
+            return next(context);
+        });
+        app.UseMiddleware<RequestBodyLimitMiddleware>();
+        app.UseAuthentication();
+        app.UseAuthorization();
+        return app;
+    }
+}

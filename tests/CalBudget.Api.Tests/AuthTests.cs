@@ -1,0 +1,135 @@
+using System.Net;
+using System.Net.Http.Headers;
+using CalBudget.Api.Hosting;
+using CalBudget.Data.Keys;
+
+namespace CalBudget.Api.Tests;
+
+public sealed class AuthTests : IDisposable
+{
+    private const string Budget = """{"contributions":[{"name":"a","distribution":"normal","standardUncertainty":1e-12}]}""";
+    private readonly ServiceFactory _factory = new();
+
+    public void Dispose() => _factory.Dispose();
+
+    [Fact]
+    public async Task MissingKeyIs401ProblemWithABearerChallenge()
+    {
+        using var response = await _factory.CreateClient().PostAsync("/api/v1/budgets/evaluate", Json.Body(Budget));
+        await Json.ProblemAsync(response, HttpStatusCode.Unauthorized);
+        Assert.Equal("Bearer", response.Headers.WwwAuthenticate.Single().Scheme);
+    }
+
+    [Theory]
+    [InlineData("cbk_0123456789abcdef_not-a-real-secret-at-all")] // well formed, unknown
+    [InlineData("cbk_short")]                                     // malformed
+    [InlineData("")]
+    public async Task UnknownOrMalformedKeyIs401(string key)
+    {
+        var client = _factory.ClientWithKey(key);
+        await Json.ProblemAsync(await client.PostAsync("/api/v1/budgets/evaluate", Json.Body(Budget)), HttpStatusCode.Unauthorized);
+    }
+
+    [Fact]
+    public async Task KnownKeyIdWithWrongSecretIs401()
+    {
+        string key = await _factory.Keys.CreateAsync("victim", Roles.Technician);
+        var client = _factory.ClientWithKey(key[..^4] + "AAAA");
+        await Json.ProblemAsync(await client.PostAsync("/api/v1/budgets/evaluate", Json.Body(Budget)), HttpStatusCode.Unauthorized);
+    }
+
+    [Fact]
+    public async Task NonBearerSchemeIs401()
+    {
+        var client = _factory.CreateClient();
+        client.DefaultRequestHeaders.Authorization = new AuthenticationHeaderValue("Basic", "dXNlcjpwYXNz");
+        await Json.ProblemAsync(await client.PostAsync("/api/v1/budgets/evaluate", Json.Body(Budget)), HttpStatusCode.Unauthorized);
+    }
+
+    [Fact]
+    public async Task RevokedKeyIs401()
+    {
+        string key = await _factory.Keys.CreateAsync("leaving", Roles.Integration);
+        var client = _factory.ClientWithKey(key);
+        await Json.ReadAsync(await client.PostAsync("/api/v1/budgets/evaluate", Json.Body(Budget)), HttpStatusCode.OK);
+        await _factory.Keys.RevokeAsync("leaving");
+        await Json.ProblemAsync(await client.PostAsync("/api/v1/budgets/evaluate", Json.Body(Budget)), HttpStatusCode.Unauthorized);
+    }
+
+    [Theory]
+    [InlineData(Roles.Technician)]
+    [InlineData(Roles.Approver)]
+    [InlineData(Roles.Auditor)]
+    [InlineData(Roles.Integration)]
+    [InlineData(Roles.Admin)]
+    public async Task EveryRoleMayEvaluate(string role)
+    {
+        var client = await _factory.ClientAsync(role);
+        await Json.ReadAsync(await client.PostAsync("/api/v1/budgets/evaluate", Json.Body(Budget)), HttpStatusCode.OK);
+    }
+
+    [Theory]
+    [InlineData(Roles.Technician)]
+    [InlineData(Roles.Approver)]
+    [InlineData(Roles.Auditor)]
+    [InlineData(Roles.Integration)]
+    public async Task KeyManagementIs403ForEveryRoleButAdmin(string role)
+    {
+        var client = await _factory.ClientAsync(role);
+        var problem = await Json.ProblemAsync(await client.GetAsync("/api/v1/keys"), HttpStatusCode.Forbidden);
+        Assert.Contains("admin", problem["detail"]!.GetValue<string>(), StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task AdminManagesKeysOverHttpAndTheListNeverShowsAKey()
+    {
+        var admin = await _factory.ClientAsync(Roles.Admin);
+        var created = await Json.PostAsync(admin, "/api/v1/keys", """{"name":"lims-east","role":"integration"}""", HttpStatusCode.Created);
+        string key = created["key"]!.GetValue<string>();
+        Assert.StartsWith("cbk_", key, StringComparison.Ordinal);
+        // 256-bit secret: 43 base64url characters after the 16-digit id
+        Assert.True(key.Length >= 4 + 16 + 1 + 43);
+
+        using var list = await admin.GetAsync("/api/v1/keys");
+        string listed = await list.Content.ReadAsStringAsync();
+        Assert.Contains("lims-east", listed, StringComparison.Ordinal);
+        Assert.DoesNotContain(key[21..], listed, StringComparison.Ordinal);
+
+        await Json.PostAsync(admin, "/api/v1/keys", """{"name":"lims-east","role":"integration"}""", HttpStatusCode.Conflict);
+        var bad = await Json.PostAsync(admin, "/api/v1/keys", """{"name":"x","role":"boss"}""", HttpStatusCode.BadRequest);
+        Assert.Contains("role", Json.ErrorFields(bad));
+
+        using var revoke = await admin.PostAsync("/api/v1/keys/lims-east/revoke", null);
+        Assert.Equal(HttpStatusCode.NoContent, revoke.StatusCode);
+        await Json.ProblemAsync(await admin.PostAsync("/api/v1/keys/lims-east/revoke", null), HttpStatusCode.Conflict);
+        await Json.ProblemAsync(await admin.PostAsync("/api/v1/keys/nobody/revoke", null), HttpStatusCode.NotFound);
+        await Json.ProblemAsync(await _factory.ClientWithKey(key).PostAsync("/api/v1/budgets/evaluate", Json.Body(Budget)), HttpStatusCode.Unauthorized);
+    }
+
+    [Fact]
+    public async Task KeysAreStoredOnlyAsSaltedHashes()
+    {
+        string key = await _factory.Keys.CreateAsync("hash-check", Roles.Auditor);
+        _ = _factory.CreateClient();
+        Microsoft.Data.Sqlite.SqliteConnection.ClearAllPools();
+        byte[] file = await File.ReadAllBytesAsync(Path.Combine(_factory.DataDirectory, CalBudget.Data.SqliteDatabase.FileName));
+        byte[] wal = File.Exists(Path.Combine(_factory.DataDirectory, CalBudget.Data.SqliteDatabase.FileName + "-wal"))
+            ? await File.ReadAllBytesAsync(Path.Combine(_factory.DataDirectory, CalBudget.Data.SqliteDatabase.FileName + "-wal")) : [];
+        string secret = key[21..];
+        Assert.DoesNotContain(secret, System.Text.Encoding.UTF8.GetString(file), StringComparison.Ordinal);
+        Assert.DoesNotContain(secret, System.Text.Encoding.UTF8.GetString(wal), StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public async Task DemoKeysExistOnlyInDevelopment()
+    {
+        var (_, _, demoKey) = DatabaseStartup.DemoKeys[0];
+        using (var development = new ServiceFactory("Development"))
+        {
+            await Json.ReadAsync(await development.ClientWithKey(demoKey).PostAsync("/api/v1/budgets/evaluate", Json.Body(Budget)), HttpStatusCode.OK);
+        }
+
+        using var production = new ServiceFactory("Production");
+        await Json.ProblemAsync(await production.ClientWithKey(demoKey).PostAsync("/api/v1/budgets/evaluate", Json.Body(Budget)), HttpStatusCode.Unauthorized);
+    }
+}
