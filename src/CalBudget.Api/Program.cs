@@ -14,7 +14,7 @@ builder.AddCalBudgetHost();
 
 var app = builder.Build();
 app.UseCalBudgetPipeline();
-app.MapOpenApi("/openapi/{documentName}.json").AllowAnonymous();
+app.MapOpenApi("/openapi/{documentName}.json").AllowAnonymous().CacheOutput(HostingExtensions.OpenApiCachePolicy);
 app.MapHealthApi();
 app.MapBudgetsApi();
 app.MapKeysApi();

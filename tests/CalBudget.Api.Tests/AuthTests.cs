@@ -2,6 +2,7 @@ using System.Net;
 using System.Net.Http.Headers;
 using CalBudget.Api.Hosting;
 using CalBudget.Data.Keys;
+using Microsoft.Extensions.Time.Testing;
 
 namespace CalBudget.Api.Tests;
 
@@ -131,5 +132,34 @@ public sealed class AuthTests : IDisposable
 
         using var production = new ServiceFactory("Production");
         await Json.ProblemAsync(await production.ClientWithKey(demoKey).PostAsync("/api/v1/budgets/evaluate", Json.Body(Budget)), HttpStatusCode.Unauthorized);
+    }
+}
+
+public sealed class KeyCacheTests
+{
+    [Fact]
+    public async Task ARevocationByAnotherProcessTakesEffectWhenTheCacheLapses()
+    {
+        var time = new FakeTimeProvider();
+        using var factory = new ServiceFactory();
+        _ = factory.CreateClient();
+        var database = Microsoft.Extensions.DependencyInjection.ServiceProviderServiceExtensions.GetRequiredService<CalBudget.Data.IDbConnectionFactory>(factory.Services);
+        var store = new ApiKeyStore(database, time) { CacheLifetime = TimeSpan.FromSeconds(5) };
+        var otherProcess = new ApiKeyStore(database, time);
+        string key = await store.CreateAsync("cached", Roles.Technician);
+        Assert.NotNull(await store.AuthenticateAsync(key));
+        await otherProcess.RevokeAsync("cached");
+        Assert.NotNull(await store.AuthenticateAsync(key)); // still remembered
+        time.Advance(TimeSpan.FromSeconds(6));
+        Assert.Null(await store.AuthenticateAsync(key));
+    }
+
+    [Fact]
+    public async Task ACachedKeyStillNeedsItsSecret()
+    {
+        using var factory = new ServiceFactory();
+        string key = await factory.Keys.CreateAsync("secretive", Roles.Auditor);
+        Assert.NotNull(await factory.Keys.AuthenticateAsync(key));
+        Assert.Null(await factory.Keys.AuthenticateAsync(key[..^3] + "xyz"));
     }
 }

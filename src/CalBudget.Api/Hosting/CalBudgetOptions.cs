@@ -18,6 +18,9 @@ public sealed class CalBudgetOptions
     /// <summary>The ceiling on Monte Carlo trials per evaluation (422 beyond it).</summary>
     public long MonteCarloMaxTrials { get; set; } = Core.MonteCarlo.MonteCarloOptions.DefaultMaxTrials;
 
+    /// <summary>How long a verified API key is remembered before the database is asked again (0 turns the cache off).</summary>
+    public TimeSpan KeyCacheLifetime { get; set; } = TimeSpan.FromSeconds(5);
+
     /// <summary>How long a graceful shutdown waits for requests in flight.</summary>
     public TimeSpan ShutdownTimeout { get; set; } = TimeSpan.FromSeconds(30);
 }

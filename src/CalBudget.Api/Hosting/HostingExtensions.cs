@@ -14,6 +14,9 @@ namespace CalBudget.Api.Hosting;
 /// <summary>How the host is put together; <c>Program.cs</c> only calls these.</summary>
 public static class HostingExtensions
 {
+    /// <summary>The output-cache policy of the OpenAPI document, which is costly to build and changes only with the code.</summary>
+    public const string OpenApiCachePolicy = "openapi";
+
     /// <summary>Settings, server limits, logging, JSON, problem details, data, keys and authorization.</summary>
     public static WebApplicationBuilder AddCalBudgetHost(this WebApplicationBuilder builder)
     {
@@ -52,7 +55,11 @@ public static class HostingExtensions
         builder.Services.AddSingleton(TimeProvider.System);
         builder.Services.AddSingleton(sp => new SqliteDatabase(sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value.DataDirectory));
         builder.Services.AddSingleton<IDbConnectionFactory>(sp => sp.GetRequiredService<SqliteDatabase>());
-        builder.Services.AddSingleton<ApiKeyStore>();
+        builder.Services.AddSingleton(sp => new ApiKeyStore(sp.GetRequiredService<IDbConnectionFactory>(), sp.GetRequiredService<TimeProvider>())
+        {
+            CacheLifetime = sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value.KeyCacheLifetime,
+        });
+        builder.Services.AddOutputCache(o => o.AddPolicy(OpenApiCachePolicy, p => p.Expire(TimeSpan.FromHours(1))));
 
         builder.Services.AddAuthentication(ApiKeyAuthenticationHandler.SchemeName)
             .AddScheme<AuthenticationSchemeOptions, ApiKeyAuthenticationHandler>(ApiKeyAuthenticationHandler.SchemeName, null);
@@ -85,6 +92,7 @@ public static class HostingExtensions
         app.UseMiddleware<RequestBodyLimitMiddleware>();
         app.UseAuthentication();
         app.UseAuthorization();
+        app.UseOutputCache();
         return app;
     }
 }

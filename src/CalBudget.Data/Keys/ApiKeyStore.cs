@@ -41,10 +41,20 @@ public sealed class ApiKeyException(ApiKeyProblem problem, string message) : Exc
 /// a random 16-byte salt and SHA-256(salt || secret); a fast hash is enough because the secret has full entropy (it
 /// cannot be guessed from a dictionary), and the comparison takes constant time.
 /// </summary>
+/// <remarks>
+/// Verified keys are remembered for <see cref="CacheLifetime"/> so that a request does not need a database round trip;
+/// the secret is still hashed and compared on every request. A revocation through this store takes effect at once; one
+/// made by another process (the command line) within the cache lifetime.
+/// </remarks>
 public sealed class ApiKeyStore(IDbConnectionFactory database, TimeProvider time)
 {
     private const string Prefix = "cbk_";
     private const int KeyIdLength = 16;
+    private const int CacheLimit = 10_000;
+    private readonly System.Collections.Concurrent.ConcurrentDictionary<string, CachedKey> _cache = new(StringComparer.Ordinal);
+
+    /// <summary>How long a verified key is remembered; zero turns the cache off. Five seconds unless configured.</summary>
+    public TimeSpan CacheLifetime { get; init; } = TimeSpan.FromSeconds(5);
 
     /// <summary>Makes a new key for <paramref name="role"/> and returns it; it is shown this once and never stored.</summary>
     public async Task<string> CreateAsync(string name, string role, CancellationToken ct = default)
@@ -113,14 +123,33 @@ public sealed class ApiKeyStore(IDbConnectionFactory database, TimeProvider time
             return null;
         }
 
+        long now = time.GetTimestamp();
+        if (_cache.TryGetValue(keyId, out var cached) && now < cached.ExpiresAt)
+        {
+            return CryptographicOperations.FixedTimeEquals(Hash(cached.Salt, secret), cached.SecretHash) ? cached.Identity : null;
+        }
+
         await using var connection = await database.OpenAsync(ct).ConfigureAwait(false);
         var row = await connection.QuerySingleOrDefaultAsync<KeyRow>(new CommandDefinition(FindSql, new { keyId }, cancellationToken: ct)).ConfigureAwait(false);
         if (row is null || row.RevokedAt is not null)
         {
+            _cache.TryRemove(keyId, out _);
             return null;
         }
 
-        return CryptographicOperations.FixedTimeEquals(Hash(row.Salt, secret), row.SecretHash) ? new ApiKeyIdentity(row.Name, row.Role) : null;
+        if (!CryptographicOperations.FixedTimeEquals(Hash(row.Salt, secret), row.SecretHash))
+        {
+            return null;
+        }
+
+        var identity = new ApiKeyIdentity(row.Name, row.Role);
+        if (CacheLifetime > TimeSpan.Zero && _cache.Count < CacheLimit)
+        {
+            long expires = now + (long)(CacheLifetime.TotalSeconds * time.TimestampFrequency);
+            _cache[keyId] = new CachedKey(identity, row.Salt, row.SecretHash, expires);
+        }
+
+        return identity;
     }
 
     private const string ListSql = """
@@ -144,6 +173,11 @@ public sealed class ApiKeyStore(IDbConnectionFactory database, TimeProvider time
     {
         await using var connection = await database.OpenAsync(ct).ConfigureAwait(false);
         int changed = await connection.ExecuteAsync(new CommandDefinition(RevokeSql, new { name, now = Timestamps.Format(time.GetUtcNow()) }, cancellationToken: ct)).ConfigureAwait(false);
+        foreach (var entry in _cache.Where(e => e.Value.Identity.Name == name))
+        {
+            _cache.TryRemove(entry.Key, out _);
+        }
+
         if (changed == 0)
         {
             bool exists = await connection.ExecuteScalarAsync<long>("SELECT count(*) FROM api_keys WHERE name = @name", new { name }).ConfigureAwait(false) > 0;
@@ -177,6 +211,8 @@ public sealed class ApiKeyStore(IDbConnectionFactory database, TimeProvider time
     }
 
     private static string Base64Url(byte[] bytes) => Convert.ToBase64String(bytes).TrimEnd('=').Replace('+', '-').Replace('/', '_');
+
+    private sealed record CachedKey(ApiKeyIdentity Identity, byte[] Salt, byte[] SecretHash, long ExpiresAt);
 
     private sealed record KeyRow(string Name, string Role, byte[] Salt, byte[] SecretHash, string? RevokedAt);
 
