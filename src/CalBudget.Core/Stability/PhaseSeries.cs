@@ -1,0 +1,111 @@
+namespace CalBudget.Core.Stability;
+
+/// <summary>
+/// Readings prepared for the statistics: phase x_0..x_{N-1} (frequency data is integrated, x_{i+1} = x_i + y_i tau0),
+/// with a linear trend removed so that the differences are taken between small numbers (a linear phase term is annihilated
+/// exactly by every difference used, so this changes no statistic, only the rounding). Gaps (NaN readings) are kept as a
+/// prefix count, so that "does this term's span contain a gap?" costs O(1).
+/// </summary>
+internal sealed class PhaseSeries
+{
+    private readonly int[]? _gapsBefore; // _gapsBefore[k] = gaps among the first k readings (frequency: y, phase: x)
+
+    private PhaseSeries(double[] x, double tau0, StabilityDataType type, int[]? gapsBefore, int gapCount)
+    {
+        X = x;
+        Tau0 = tau0;
+        DataType = type;
+        _gapsBefore = gapsBefore;
+        GapCount = gapCount;
+    }
+
+    /// <summary>Phase samples, detrended; 0 where a gap makes the value unknown (such samples are never used).</summary>
+    public double[] X { get; }
+
+    /// <summary>Phase sample count N.</summary>
+    public int Length => X.Length;
+
+    /// <summary>The sampling interval in seconds.</summary>
+    public double Tau0 { get; }
+
+    /// <summary>The kind of the original readings.</summary>
+    public StabilityDataType DataType { get; }
+
+    /// <summary>How many readings are gaps.</summary>
+    public int GapCount { get; }
+
+    public static PhaseSeries From(ReadOnlySpan<double> values, StabilityDataType type, double tau0)
+    {
+        int gaps = 0;
+        foreach (double v in values)
+        {
+            if (double.IsNaN(v))
+            {
+                gaps++;
+            }
+        }
+
+        int[]? before = null;
+        if (gaps > 0)
+        {
+            before = new int[values.Length + 1];
+            for (int i = 0; i < values.Length; i++)
+            {
+                before[i + 1] = before[i] + (double.IsNaN(values[i]) ? 1 : 0);
+            }
+        }
+
+        double[] x;
+        if (type == StabilityDataType.Frequency)
+        {
+            double sum = 0;
+            int n = 0;
+            foreach (double v in values)
+            {
+                if (!double.IsNaN(v))
+                {
+                    sum += v;
+                    n++;
+                }
+            }
+
+            double mean = n > 0 ? sum / n : 0;
+            x = new double[values.Length + 1];
+            for (int i = 0; i < values.Length; i++)
+            {
+                x[i + 1] = x[i] + (double.IsNaN(values[i]) ? 0 : (values[i] - mean) * tau0);
+            }
+        }
+        else
+        {
+            x = values.ToArray();
+            int first = Array.FindIndex(x, v => !double.IsNaN(v));
+            int last = Array.FindLastIndex(x, v => !double.IsNaN(v));
+            double x0 = first >= 0 ? x[first] : 0;
+            double slope = last > first ? (x[last] - x0) / (last - first) : 0;
+            for (int i = 0; i < x.Length; i++)
+            {
+                x[i] = double.IsNaN(x[i]) ? 0 : x[i] - x0 - slope * (i - first);
+            }
+        }
+
+        return new PhaseSeries(x, tau0, type, before, gaps);
+    }
+
+    /// <summary>True when the term that uses phase samples first..last (inclusive) has no gap in its span.</summary>
+    public bool Complete(int first, int last)
+    {
+        if (_gapsBefore is null)
+        {
+            return true;
+        }
+
+        // Frequency reading i lies between phase samples i and i + 1; phase reading i is sample i.
+        return DataType == StabilityDataType.Frequency
+            ? _gapsBefore[last] - _gapsBefore[first] == 0
+            : _gapsBefore[last + 1] - _gapsBefore[first] == 0;
+    }
+
+    /// <summary>The original readings' count as the data type counts them (frequency: N - 1).</summary>
+    public int ReadingCount => DataType == StabilityDataType.Frequency ? Length - 1 : Length;
+}

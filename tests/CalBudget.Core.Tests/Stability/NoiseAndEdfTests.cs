@@ -1,0 +1,103 @@
+using CalBudget.Core.Stability;
+
+namespace CalBudget.Core.Tests.Stability;
+
+public class NoiseAndEdfTests
+{
+    [Theory]
+    [InlineData(2, "white PM")]
+    [InlineData(0, "white FM")]
+    [InlineData(-2, "random-walk FM")]
+    public void LagOneAutocorrelationIdentifiesTheNoise(int alpha, string name)
+    {
+        var y = ReferenceData.Noise(alpha, 4096, seed: 17 + alpha);
+        var r = StabilityAnalysis.Analyse(y, StabilityDataType.Frequency, 1, [StabilityStatistic.Oadev], [1, 4, 16]);
+        Assert.All(r.Noise, n =>
+        {
+            Assert.Equal(alpha, n.Alpha);
+            Assert.Equal(name, n.Type);
+        });
+    }
+
+    [Fact]
+    public void TooFewPointsAreNotIdentified()
+    {
+        var r = StabilityAnalysis.Analyse(ReferenceData.Noise(0, 200, 1), StabilityDataType.Frequency, 1, [StabilityStatistic.Oadev], [1, 64]);
+        Assert.NotNull(r.Noise[0].Alpha);
+        Assert.Null(r.Noise[1].Alpha); // 200 / 64 = 3 points
+        Assert.Equal("not identified", r.Noise[1].Type);
+    }
+
+    // NIST SP 1065 Table 5: simple approximations for the overlapping ADEV edf, N phase points, averaging factor m
+    // (formulas as quoted in ../shared/DOMAIN.md; flicker FM at m = 1 with the square, as SP 1065 prints it).
+    private static double Table5(int alpha, double n, double m) => alpha switch
+    {
+        2 => (n + 1) * (n - 2 * m) / (2 * (n - m)),
+        1 => Math.Exp(Math.Sqrt(Math.Log((n - 1) / (2 * m)) * Math.Log((2 * m + 1) * (n - 1) / 4))),
+        0 => (3 * (n - 1) / (2 * m) - 2 * (n - 2) / n) * 4 * m * m / (4 * m * m + 5),
+        -1 => m == 1 ? 2 * (n - 2) * (n - 2) / (2.3 * n - 4.9) : 5 * n * n / (4 * m * (n + 3 * m)),
+        _ => (n - 2) / (m * (n - 3) * (n - 3)) * ((n - 1) * (n - 1) - 3 * m * (n - 1) + 4 * m * m),
+    };
+
+    [Theory]
+    [InlineData(2, 1001, 1)]
+    [InlineData(2, 1001, 10)]
+    [InlineData(2, 1001, 100)]
+    [InlineData(1, 1001, 10)]
+    [InlineData(1, 1001, 100)]
+    [InlineData(0, 1001, 1)]
+    [InlineData(0, 1001, 10)]
+    [InlineData(0, 1001, 100)]
+    [InlineData(-1, 1001, 1)]
+    [InlineData(-1, 1001, 10)]
+    [InlineData(-1, 1001, 100)]
+    [InlineData(-2, 1001, 1)]
+    [InlineData(-2, 1001, 10)]
+    [InlineData(-2, 1001, 100)]
+    [InlineData(0, 100001, 1000)]
+    public void OverlappingAllanEdfAgreesWithSp1065Table5(int alpha, int n, int m)
+    {
+        double computed = EquivalentDegreesOfFreedom.Compute(StabilityStatistic.Oadev, alpha, m, n - 2 * m, n);
+        // Table 5's forms are approximations fitted to the exact values (SP 1065 says within a few per cent); flicker PM
+        // depends weakly on the measurement bandwidth, which the closed form fixes and the computation does not.
+        double tolerance = alpha == 1 ? 0.25 : 0.1;
+        Check.Relative(Table5(alpha, n, m), computed, tolerance, $"alpha {alpha}, N {n}, m {m}");
+    }
+
+    [Fact]
+    public void WhiteFmEdfOfNonOverlappingAllanIsTheTermCount()
+    {
+        // Non-overlapping first differences of white-FM averages are correlated only with their neighbours (r = -1/2):
+        // edf = T^2 / (T + 2 (T - 1) / 4), which is close to 2T/3 (derived by hand from the definition).
+        int t = 99;
+        double expected = (double)t * t / (t + 2.0 * (t - 1) / 4);
+        Check.Relative(expected, EquivalentDegreesOfFreedom.Compute(StabilityStatistic.Adev, 0, 10, t, 1001), 1e-9);
+    }
+
+    [Fact]
+    public void TotdevEdfFollowsSp1065Table7()
+    {
+        // Table 7: edf = b N/m - c; white FM (1.50, 0), flicker FM (1.17, 0.22), random-walk FM (0.93, 0.36)
+        Check.Relative(1.50 * 1000 / 10, EquivalentDegreesOfFreedom.Compute(StabilityStatistic.Totdev, 0, 10, 999, 1001), 1e-12);
+        Check.Relative(1.17 * 1000 / 10 - 0.22, EquivalentDegreesOfFreedom.Compute(StabilityStatistic.Totdev, -1, 10, 999, 1001), 1e-12);
+        Check.Relative(0.93 * 1000 / 10 - 0.36, EquivalentDegreesOfFreedom.Compute(StabilityStatistic.Totdev, -2, 10, 999, 1001), 1e-12);
+    }
+
+    [Theory]
+    [InlineData(StabilityStatistic.Mdev)]
+    [InlineData(StabilityStatistic.Hdev)]
+    [InlineData(StabilityStatistic.Ohdev)]
+    [InlineData(StabilityStatistic.Adev)]
+    public void EdfIsPositiveAndBelowTheTermCountForEveryNoise(StabilityStatistic statistic)
+    {
+        foreach (int alpha in new[] { 2, 1, 0, -1, -2 })
+        {
+            foreach (int m in new[] { 1, 8, 64 })
+            {
+                int terms = statistic is StabilityStatistic.Adev or StabilityStatistic.Hdev ? 10_000 / m - 3 : 10_000 - 3 * m;
+                double edf = EquivalentDegreesOfFreedom.Compute(statistic, alpha, m, terms, 10_001);
+                Assert.InRange(edf, 1, terms * 1.0001);
+            }
+        }
+    }
+}
