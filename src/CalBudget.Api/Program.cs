@@ -1,3 +1,4 @@
+using CalBudget.Api.Analytics;
 using CalBudget.Api.Budgets;
 using CalBudget.Api.Cli;
 using CalBudget.Api.Health;
@@ -17,6 +18,7 @@ app.UseCalBudgetPipeline();
 app.MapOpenApi("/openapi/{documentName}.json").AllowAnonymous().CacheOutput(HostingExtensions.OpenApiCachePolicy);
 app.MapHealthApi();
 app.MapBudgetsApi();
+app.MapAnalyticsApi();
 app.MapKeysApi();
 
 await app.Services.InitialiseDatabaseAsync(seedDemoData: app.Environment.IsDevelopment());

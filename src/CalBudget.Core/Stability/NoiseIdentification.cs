@@ -6,22 +6,57 @@ namespace CalBudget.Core.Stability;
 /// for frequency, quadratic for phase), and the series differenced until delta = r1 / (1 + r1) is below 0.25; then
 /// alpha = -round(2 delta) - 2d, plus 2 for phase data.
 /// </summary>
-internal static class NoiseIdentification
+internal sealed class NoiseIdentification
 {
     /// <summary>The fewest points after averaging that the method is trusted with.</summary>
     public const int MinimumPoints = 30;
 
-    /// <summary>The noise exponent alpha at m, or null when too few points remain (or the data are constant).</summary>
-    public static int? Identify(ReadOnlySpan<double> values, StabilityDataType type, int m, int maxDifferences)
+    private readonly ReadOnlyMemory<double> _values;
+    private readonly StabilityDataType _type;
+    private readonly double[] _prefix = [];   // frequency: prefix sums of the mean-removed readings (gaps as 0)
+    private readonly int[] _gapsBefore = [];  // frequency: gaps among the first k readings
+
+    /// <summary>Prepares the readings once, so that each averaging factor costs O(N / m).</summary>
+    public NoiseIdentification(ReadOnlyMemory<double> readings, StabilityDataType type)
     {
-        var z = Reduce(values, type, m);
-        if (z.Count < MinimumPoints)
+        _values = readings;
+        var values = readings.Span;
+        _type = type;
+        if (type == StabilityDataType.Frequency)
+        {
+            double sum = 0;
+            int count = 0;
+            foreach (double v in values)
+            {
+                if (!double.IsNaN(v))
+                {
+                    sum += v;
+                    count++;
+                }
+            }
+
+            double mean = count > 0 ? sum / count : 0;
+            _prefix = new double[values.Length + 1];
+            _gapsBefore = new int[values.Length + 1];
+            for (int i = 0; i < values.Length; i++)
+            {
+                bool gap = double.IsNaN(values[i]);
+                _prefix[i + 1] = _prefix[i] + (gap ? 0 : values[i] - mean);
+                _gapsBefore[i + 1] = _gapsBefore[i] + (gap ? 1 : 0);
+            }
+        }
+    }
+
+    /// <summary>The noise exponent alpha at m, or null when too few points remain (or the data are constant).</summary>
+    public int? Identify(int m, int maxDifferences)
+    {
+        var series = Reduce(m);
+        if (series.Length < MinimumPoints)
         {
             return null;
         }
 
-        var series = z.ToArray();
-        Detrend(series, type == StabilityDataType.Phase ? 2 : 1);
+        Detrend(series, _type == StabilityDataType.Phase ? 2 : 1);
         for (int d = 0; ; d++)
         {
             double? r1 = LagOne(series);
@@ -33,7 +68,7 @@ internal static class NoiseIdentification
             double delta = r1.Value / (1 + r1.Value);
             if (delta < 0.25 || d >= maxDifferences)
             {
-                int alpha = -(int)Math.Round(2 * delta, MidpointRounding.AwayFromZero) - 2 * d + (type == StabilityDataType.Phase ? 2 : 0);
+                int alpha = -(int)Math.Round(2 * delta, MidpointRounding.AwayFromZero) - 2 * d + (_type == StabilityDataType.Phase ? 2 : 0);
                 return Math.Clamp(alpha, -2 * maxDifferences, 2);
             }
 
@@ -45,83 +80,71 @@ internal static class NoiseIdentification
         }
     }
 
-    // Averages of m consecutive frequency readings, or every m-th phase reading; a block or a point with a gap is dropped.
-    private static List<double> Reduce(ReadOnlySpan<double> values, StabilityDataType type, int m)
+    // Averages of m consecutive frequency readings (from the prefix sums), or every m-th phase reading; a block or a
+    // point with a gap is dropped.
+    private double[] Reduce(int m)
     {
-        var z = new List<double>(values.Length / Math.Max(m, 1) + 1);
-        if (type == StabilityDataType.Phase)
+        var values = _values.Span;
+        var z = new double[values.Length / m + 1];
+        int count = 0;
+        if (_type == StabilityDataType.Phase)
         {
             for (int i = 0; i < values.Length; i += m)
             {
                 if (!double.IsNaN(values[i]))
                 {
-                    z.Add(values[i]);
+                    z[count++] = values[i];
                 }
             }
-
-            return z;
         }
-
-        for (int start = 0; start + m <= values.Length; start += m)
+        else
         {
-            double sum = 0;
-            bool gap = false;
-            for (int i = start; i < start + m; i++)
+            for (int start = 0; start + m <= values.Length; start += m)
             {
-                gap |= double.IsNaN(values[i]);
-                sum += values[i];
-            }
-
-            if (!gap)
-            {
-                z.Add(sum / m);
+                if (_gapsBefore[start + m] == _gapsBefore[start])
+                {
+                    z[count++] = (_prefix[start + m] - _prefix[start]) / m;
+                }
             }
         }
 
-        return z;
+        return count == z.Length ? z : z[..count];
     }
 
-    // Least-squares polynomial of the given degree in the index, subtracted (normal equations on a centred index).
+    // Least-squares polynomial of degree 1 or 2 in the centred index t = i - (n - 1)/2, subtracted. With a centred index the
+    // odd power sums vanish, so the normal equations split: c1 = sum(t z) / sum(t^2), and c0, c2 from a 2 x 2 system.
     private static void Detrend(double[] z, int degree)
     {
         int n = z.Length;
         double c = (n - 1) / 2.0;
-        var a = new double[degree + 1, degree + 1];
-        var b = new double[degree + 1];
+        double s0 = n, s2 = 0, s4 = 0, b0 = 0, b1 = 0, b2 = 0;
         for (int i = 0; i < n; i++)
         {
-            double t = (i - c) / Math.Max(c, 1);
-            double p = 1;
-            var powers = new double[2 * degree + 1];
-            for (int k = 0; k <= 2 * degree; k++)
-            {
-                powers[k] = p;
-                p *= t;
-            }
+            double t = i - c;
+            double t2 = t * t;
+            s2 += t2;
+            s4 += t2 * t2;
+            b0 += z[i];
+            b1 += t * z[i];
+            b2 += t2 * z[i];
+        }
 
-            for (int r = 0; r <= degree; r++)
+        double c1 = s2 > 0 ? b1 / s2 : 0;
+        double c0 = b0 / s0, c2 = 0;
+        if (degree == 2)
+        {
+            double det = s0 * s4 - s2 * s2;
+            if (det != 0)
             {
-                b[r] += powers[r] * z[i];
-                for (int q = 0; q <= degree; q++)
-                {
-                    a[r, q] += powers[r + q];
-                }
+                c0 = (b0 * s4 - b2 * s2) / det;
+                c2 = (s0 * b2 - s2 * b0) / det;
             }
         }
 
-        var coefficients = MathNet.Numerics.LinearAlgebra.Matrix<double>.Build.DenseOfArray(a)
-            .Solve(MathNet.Numerics.LinearAlgebra.Vector<double>.Build.DenseOfArray(b));
         for (int i = 0; i < n; i++)
         {
-            double t = (i - c) / Math.Max(c, 1);
-            double fit = 0, p = 1;
-            for (int k = 0; k <= degree; k++)
-            {
-                fit += coefficients[k] * p;
-                p *= t;
-            }
-
-            z[i] -= fit;
+            double t = i - c;
+            z[i] -= c0 + c1 * t + c2 * t * t;
         }
     }
 

@@ -39,12 +39,13 @@ public static class StabilityAnalysis
     private const double OutsideProbability = 0.317;
 
     /// <summary>
-    /// Analyses <paramref name="values"/>. NaN readings are gaps: a term whose span holds one is left out (TOTDEV, whose
+    /// Analyses <paramref name="readings"/>. NaN readings are gaps: a term whose span holds one is left out (TOTDEV, whose
     /// reflected extension has no meaning across gaps, refuses them).
     /// </summary>
-    public static StabilityResult Analyse(ReadOnlySpan<double> values, StabilityDataType type, double tau0,
+    public static StabilityResult Analyse(ReadOnlyMemory<double> readings, StabilityDataType type, double tau0,
         IReadOnlyCollection<StabilityStatistic> statistics, IReadOnlyCollection<int>? averagingFactors = null)
     {
+        var values = readings.Span;
         ArgumentNullException.ThrowIfNull(statistics);
         if (!double.IsFinite(tau0) || tau0 <= 0)
         {
@@ -89,15 +90,19 @@ public static class StabilityAnalysis
         }
 
         bool hadamard = statistics.Contains(StabilityStatistic.Hdev) || statistics.Contains(StabilityStatistic.Ohdev);
-        var copy = values.ToArray();
+        var identification = new NoiseIdentification(readings, type);
         var noise = jobs.Select(j => j.M).Distinct().Order().AsParallel().AsOrdered()
-            .Select(m => new NoisePoint(m, m * tau0, NoiseIdentification.Identify(copy, type, m, hadamard ? 3 : 2)))
+            .Select(m => new NoisePoint(m, m * tau0, identification.Identify(m, hadamard ? 3 : 2)))
             .ToArray();
         var alphaAt = FillUnidentified(noise);
 
+        // TDEV is MDEV rescaled: each modified variance is computed once and shared.
+        var modified = new System.Collections.Concurrent.ConcurrentDictionary<int, Lazy<VarianceEstimate>>();
         var points = jobs.AsParallel().Select(job =>
         {
-            var estimate = Deviations.Variance(series, job.Statistic, job.M);
+            var estimate = job.Statistic is StabilityStatistic.Mdev or StabilityStatistic.Tdev
+                ? modified.GetOrAdd(job.M, m => new Lazy<VarianceEstimate>(() => Deviations.Variance(series, StabilityStatistic.Mdev, m))).Value
+                : Deviations.Variance(series, job.Statistic, job.M);
             if (estimate.Terms == 0 || !(estimate.Variance >= 0))
             {
                 return (job.Statistic, Point: (StabilityPoint?)null);

@@ -173,9 +173,9 @@ public class StabilityStatisticsTests
     [Fact]
     public void BadRequestsAreRefused()
     {
-        Assert.Equal("values", Assert.Throws<MetrologyException>(() => StabilityAnalysis.Analyse([], StabilityDataType.Frequency, 1, All)).Parameter);
-        Assert.Equal("statistics", Assert.Throws<MetrologyException>(() => StabilityAnalysis.Analyse([1, 2, 3], StabilityDataType.Frequency, 1, [])).Parameter);
-        Assert.Equal("averagingFactors", Assert.Throws<MetrologyException>(() => StabilityAnalysis.Analyse([1, 2, 3, 4], StabilityDataType.Frequency, 1, All, [0])).Parameter);
+        Assert.Equal("values", Assert.Throws<MetrologyException>(() => StabilityAnalysis.Analyse(Array.Empty<double>(), StabilityDataType.Frequency, 1, All)).Parameter);
+        Assert.Equal("statistics", Assert.Throws<MetrologyException>(() => StabilityAnalysis.Analyse(new double[] { 1, 2, 3 }, StabilityDataType.Frequency, 1, [])).Parameter);
+        Assert.Equal("averagingFactors", Assert.Throws<MetrologyException>(() => StabilityAnalysis.Analyse(new double[] { 1, 2, 3, 4 }, StabilityDataType.Frequency, 1, All, [0])).Parameter);
         var gaps = ReferenceData.Nbs140Frequency();
         gaps[4] = double.NaN;
         Assert.True(Assert.Throws<MetrologyException>(() => StabilityAnalysis.Analyse(gaps, StabilityDataType.Frequency, 1, [StabilityStatistic.Totdev])).NotComputable);
