@@ -19,6 +19,7 @@ app.MapOpenApi("/openapi/{documentName}.json").AllowAnonymous().CacheOutput(Host
 app.MapHealthApi();
 app.MapBudgetsApi();
 app.MapAnalyticsApi();
+app.MapOrientationApi();
 app.MapKeysApi();
 
 await app.Services.InitialiseDatabaseAsync(seedDemoData: app.Environment.IsDevelopment());
