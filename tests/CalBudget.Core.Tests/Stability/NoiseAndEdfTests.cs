@@ -101,3 +101,50 @@ public class NoiseAndEdfTests
         }
     }
 }
+
+public class TimebaseTypeATests
+{
+    [Fact]
+    public void WhiteFmUsesTheStandardDeviationOfTheMean()
+    {
+        var y = ReferenceData.Noise(0, 2000, 5).Select(v => 1e-9 + 1e-11 * v).ToArray();
+        var r = TimebaseTypeA.Evaluate(y, 1);
+        double mean = y.Average();
+        double sdom = Math.Sqrt(y.Sum(v => (v - mean) * (v - mean)) / (y.Length - 1) / y.Length); // JCGM 100 eq. (5)
+        Assert.Equal(TypeAEstimator.StandardDeviationOfMean, r.Estimator);
+        Assert.Equal(0, r.NoiseAlpha);
+        Check.Relative(mean, r.Mean, 1e-12);
+        Check.Relative(sdom, r.StandardUncertainty, 1e-9);
+        Assert.Equal(1999, r.DegreesOfFreedom);
+        Assert.Contains("white FM", r.Reason, StringComparison.OrdinalIgnoreCase);
+    }
+
+    [Fact]
+    public void RandomWalkFmUsesTheAllanDeviationAtHalfTheRun()
+    {
+        var y = ReferenceData.Noise(-2, 2000, 6).Select(v => 1e-12 * v).ToArray();
+        var r = TimebaseTypeA.Evaluate(y, 1);
+        Assert.Equal(TypeAEstimator.AllanDeviation, r.Estimator);
+        Assert.Equal(-2, r.NoiseAlpha);
+        // the standard deviation of the mean understates a random walk's wander by a wide margin
+        double mean = y.Average();
+        double sdom = Math.Sqrt(y.Sum(v => (v - mean) * (v - mean)) / (y.Length - 1) / y.Length);
+        Assert.True(r.StandardUncertainty > 3 * sdom);
+        Assert.True(r.DegreesOfFreedom < 10);
+        var oadev = StabilityAnalysis.Analyse(y, StabilityDataType.Frequency, 1, [StabilityStatistic.Oadev], [1000]).Results[StabilityStatistic.Oadev][0];
+        Assert.Equal(oadev.Deviation, r.StandardUncertainty);
+    }
+
+    [Fact]
+    public void FewReadingsSaySoAndUseTheStandardDeviationOfTheMean()
+    {
+        var r = TimebaseTypeA.Evaluate(new double[] { 1e-10, 1.2e-10, 0.9e-10, 1.1e-10 }, 10);
+        Assert.Null(r.NoiseAlpha);
+        Assert.Equal(3, r.DegreesOfFreedom);
+        Assert.Contains("not identified", r.Reason, StringComparison.Ordinal);
+    }
+
+    [Fact]
+    public void FewerThanTwoReadingsAreNotComputable() =>
+        Assert.True(Assert.Throws<MetrologyException>(() => TimebaseTypeA.Evaluate(new[] { 1e-10, double.NaN }, 1)).NotComputable);
+}
