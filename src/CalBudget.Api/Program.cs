@@ -20,6 +20,7 @@ app.MapHealthApi();
 app.MapBudgetsApi();
 app.MapAnalyticsApi();
 app.MapOrientationApi();
+app.MapAgingApi();
 app.MapKeysApi();
 
 await app.Services.InitialiseDatabaseAsync(seedDemoData: app.Environment.IsDevelopment());

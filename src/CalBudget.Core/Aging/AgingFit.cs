@@ -166,28 +166,32 @@ public static class AgingFit
         }
 
         var (a0, c0, _) = ProfileFit(t, y, w, bestB);
-        // Parameters are scaled for the optimiser: p = [A / s, ln(B span), y0 / s], s the spread of the offsets.
+        // The optimiser's tolerances are absolute, so it works on offsets scaled to order one: y / s with s the offsets'
+        // spread, weights w s^2, and parameters p = [A / s, ln(B span), y0 / s].
         double s = Math.Max(y.Maximum() - y.Minimum(), Math.Abs(y.Average()));
         s = s > 0 ? s : 1;
+        var scaledY = y / s;
+        var scaledW = w * (s * s);
         Vector<double> Model(Vector<double> p, Vector<double> days) =>
-            Vector<double>.Build.Dense(days.Count, i => s * (p[0] * Math.Log(Math.Exp(p[1]) / span * days[i] + 1) + p[2]));
+            Vector<double>.Build.Dense(days.Count, i => p[0] * Math.Log(Math.Exp(p[1]) / span * days[i] + 1) + p[2]);
         Matrix<double> Jacobian(Vector<double> p, Vector<double> days) => Matrix<double>.Build.Dense(days.Count, 3, (i, j) =>
         {
             double b = Math.Exp(p[1]) / span;
             return j switch
             {
-                0 => s * Math.Log(b * days[i] + 1),
-                1 => s * p[0] * b * days[i] / (b * days[i] + 1),
-                _ => s,
+                0 => Math.Log(b * days[i] + 1),
+                1 => p[0] * b * days[i] / (b * days[i] + 1),
+                _ => 1.0,
             };
         });
 
-        var objective = ObjectiveFunction.NonlinearModel(Model, Jacobian, t, y, w);
+        var objective = ObjectiveFunction.NonlinearModel(Model, Jacobian, t, scaledY, weighted ? scaledW : null);
         var start = Vector<double>.Build.Dense([a0 / s, Math.Log(bestB * span), c0 / s]);
         NonlinearMinimizationResult result;
         try
         {
-            result = new LevenbergMarquardtMinimizer(maximumIterations: 500).FindMinimum(objective, start);
+            result = new LevenbergMarquardtMinimizer(initialMu: 1e-3, gradientTolerance: 1e-15, stepTolerance: 1e-15,
+                functionTolerance: 1e-15, maximumIterations: 1000).FindMinimum(objective, start);
         }
         catch (Exception ex) when (ex is MaximumIterationsException or ArithmeticException or ArgumentException)
         {
