@@ -41,6 +41,16 @@ public sealed record Contribution
     public double UncertaintyContribution => Math.Abs(Sensitivity) * Distribution.StandardUncertainty;
 
     /// <summary>
+    /// An orientation contribution: postures of use uniform within <paramref name="tiltDegrees"/> of the calibration
+    /// posture; its estimate is the mean shift (a correction), its distribution the geometry's.
+    /// </summary>
+    public static Contribution ForOrientation(string name, Orientation.Vector3D gamma, Orientation.Posture calibration, double tiltDegrees)
+    {
+        var distribution = InputDistribution.OrientationWithinTilt(gamma, calibration, tiltDegrees);
+        return Create(name, distribution, estimate: distribution.MeanShift);
+    }
+
+    /// <summary>
     /// Creates a contribution. <paramref name="degreesOfFreedom"/> null means infinite; for a Student's t input it
     /// defaults to the distribution's own degrees of freedom.
     /// </summary>

@@ -32,7 +32,7 @@ public sealed class CorrelationMatrix
     public double this[int i, int j] => _r[i, j];
 
     /// <summary>Builds the matrix for <paramref name="names"/> from the stated pairs; unstated pairs are uncorrelated.</summary>
-    public static CorrelationMatrix Create(IReadOnlyList<string> names, IReadOnlyList<Correlation> correlations)
+    public static CorrelationMatrix Create(IReadOnlyList<string> names, IReadOnlyList<Correlation> correlations, IReadOnlyList<DistributionKind>? kinds = null)
     {
         ArgumentNullException.ThrowIfNull(names);
         ArgumentNullException.ThrowIfNull(correlations);
@@ -78,6 +78,14 @@ public sealed class CorrelationMatrix
         }
 
         var correlated = offDiagonal.SelectMany(t => new[] { t.Item1, t.Item2 }).Distinct().Order().ToArray();
+        foreach (int i in correlated)
+        {
+            if (kinds is not null && kinds[i] == DistributionKind.Orientation)
+            {
+                throw new MetrologyException("correlations", $"'{names[i]}' is an orientation contribution: its distribution comes from the geometry and cannot be correlated here.") { NotComputable = true };
+            }
+        }
+
         var matrix = new CorrelationMatrix(r, offDiagonal, correlated);
         if (correlated.Length > 2)
         {

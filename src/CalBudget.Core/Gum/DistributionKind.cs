@@ -13,4 +13,9 @@ public enum DistributionKind
     UShaped,
     /// <summary>Scaled and shifted Student's t with scale s and nu degrees of freedom (JCGM 101 6.4.9).</summary>
     StudentT,
+    /// <summary>
+    /// The frequency shift Gamma . (u - c) of an instrument whose posture u is uniform (by area) within a tilt angle of the
+    /// calibration posture c: asymmetric, from the geometry. The deviation about its mean is what is sampled.
+    /// </summary>
+    Orientation,
 }

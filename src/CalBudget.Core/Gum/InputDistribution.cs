@@ -19,6 +19,12 @@ public sealed record InputDistribution
         ShapeDegreesOfFreedom = shapeDegreesOfFreedom;
     }
 
+    /// <summary>For <see cref="DistributionKind.Orientation"/>: Gamma . c (per g), |Gamma across c| and cos(tilt).</summary>
+    internal (double Along, double Across, double CosTilt) Geometry { get; private init; }
+
+    /// <summary>For <see cref="DistributionKind.Orientation"/>: the mean shift E[Gamma . (u - c)], the estimate such an input takes; 0 otherwise.</summary>
+    public double MeanShift { get; private init; }
+
     /// <summary>The family of the distribution.</summary>
     public DistributionKind Kind { get; }
 
@@ -76,6 +82,29 @@ public sealed record InputDistribution
         }
 
         return new(DistributionKind.StudentT, scale, double.NaN, degreesOfFreedom);
+    }
+
+    /// <summary>
+    /// The shift dy = Gamma . (u - c) when the posture u is uniform by area within <paramref name="tiltDegrees"/> of the
+    /// calibration posture c. With a = Gamma . c, b = |Gamma - a c| and t = cos(angle) uniform on [cos theta, 1]:
+    /// dy = a (t - 1) + b sqrt(1 - t^2) cos(phi), so E[dy] = -a (1 - cos theta) / 2 and
+    /// Var[dy] = a^2 (1 - cos theta)^2 / 12 + b^2 (1 - E[t^2]) / 2 with E[t^2] = (1 + cos theta + cos^2 theta) / 3 (derived by hand).
+    /// Its half-width (the largest |dy|) is <see cref="Orientation.OrientationShift.WithinTilt"/>'s.
+    /// </summary>
+    public static InputDistribution OrientationWithinTilt(Orientation.Vector3D gamma, Orientation.Posture calibration, double tiltDegrees)
+    {
+        var range = Orientation.OrientationShift.WithinTilt(gamma, calibration, tiltDegrees);
+        double a = gamma.Dot(calibration.Up);
+        double b = (gamma - a * calibration.Up).Length;
+        double cosTheta = Math.Cos(tiltDegrees * Math.PI / 180);
+        double meanT = (1 + cosTheta) / 2;
+        double meanT2 = (1 + cosTheta + cosTheta * cosTheta) / 3;
+        double variance = a * a * (1 - cosTheta) * (1 - cosTheta) / 12 + b * b * (1 - meanT2) / 2;
+        return new InputDistribution(DistributionKind.Orientation, Math.Sqrt(Math.Max(variance, 0)), range.HalfWidth!.Value, double.NaN)
+        {
+            Geometry = (a, b, cosTheta),
+            MeanShift = a * (meanT - 1),
+        };
     }
 
     private static InputDistribution Bounded(DistributionKind kind, double halfWidth, double divisor)

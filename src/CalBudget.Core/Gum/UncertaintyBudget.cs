@@ -53,7 +53,8 @@ public sealed class UncertaintyBudget
             }
         }
 
-        var matrix = CorrelationMatrix.Create(contributions.Select(c => c.Name).ToArray(), correlations ?? []);
+        var matrix = CorrelationMatrix.Create(contributions.Select(c => c.Name).ToArray(), correlations ?? [],
+            contributions.Select(c => c.Distribution.Kind).ToArray());
         return new UncertaintyBudget(measurand, coverageProbability, contributions.ToArray(), matrix);
     }
 

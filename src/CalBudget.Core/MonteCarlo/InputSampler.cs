@@ -41,6 +41,7 @@ internal static class InputSampler
             DistributionKind.Triangular => Triangular(state, sensitivity * d.HalfWidth, output),
             DistributionKind.UShaped => UShaped(state, sensitivity * d.HalfWidth, output),
             DistributionKind.StudentT => StudentT(state, sensitivity * d.StandardUncertainty, d.ShapeDegreesOfFreedom, output),
+            DistributionKind.Orientation => Orientation(state, sensitivity, d, output),
             _ => throw new InvalidOperationException($"No sampler for {d.Kind}."),
         };
     }
@@ -82,6 +83,23 @@ internal static class InputSampler
         for (int j = 0; j < output.Length; j++)
         {
             output[j] += s * SinHalfPiRange(Math.PI * (rng.NextDouble() - 0.5));
+        }
+
+        return rng;
+    }
+
+    // A posture uniform in the cap: t = cos(angle) uniform on [cos theta, 1], azimuth uniform; the deviation of
+    // a (t - 1) + b sqrt(1 - t^2) cos(phi) from its mean.
+    private static Xoshiro256 Orientation(Xoshiro256 rng, double sensitivity, InputDistribution d, Span<double> output)
+    {
+        var (a, b, cosTheta) = d.Geometry;
+        double mean = d.MeanShift;
+        for (int j = 0; j < output.Length; j++)
+        {
+            double t = 1 - rng.NextDouble() * (1 - cosTheta);
+            double phi = 2 * Math.PI * rng.NextDouble();
+            double shift = a * (t - 1) + b * Math.Sqrt(Math.Max(0, 1 - t * t)) * Math.Cos(phi);
+            output[j] += sensitivity * (shift - mean);
         }
 
         return rng;

@@ -1,3 +1,4 @@
+using CalBudget.Core.Gum;
 using CalBudget.Core.Orientation;
 
 namespace CalBudget.Core.Tests.Orientation;
@@ -212,5 +213,52 @@ public class OrientationTests
         double meanX = samples.Average(p => p.Up.X), meanZ = samples.Average(p => p.Up.Z);
         Assert.InRange(meanX, -0.003, 0.003);
         Assert.InRange(meanZ, -0.003, 0.003);
+    }
+}
+
+public class OrientationContributionTests
+{
+    private static readonly Vector3D Gamma = new(1e-9, 0, 3e-10);
+    private static readonly Posture Calibration = Posture.FromAxis("+z");
+
+    [Theory]
+    [InlineData(10.0)]
+    [InlineData(30.0)]
+    [InlineData(90.0)]
+    [InlineData(180.0)]
+    public void MeanAndUncertaintyMatchPosturesDrawnFromTheCap(double tilt)
+    {
+        var d = InputDistribution.OrientationWithinTilt(Gamma, Calibration, tilt);
+        var shifts = OrientationShift.SampleWithinTilt(Calibration, tilt, 400_000, seed: 12).Select(p => Gamma.Dot(p.Up - Calibration.Up)).ToArray();
+        double mean = shifts.Average();
+        double sd = Math.Sqrt(shifts.Sum(s => (s - mean) * (s - mean)) / (shifts.Length - 1));
+        // standard error of the mean sd / sqrt(N); of the standard deviation about sd / sqrt(2N)
+        Check.Absolute(mean, d.MeanShift, 4 * sd / Math.Sqrt(shifts.Length), $"mean at {tilt}");
+        Check.Relative(sd, d.StandardUncertainty, 4 / Math.Sqrt(2.0 * shifts.Length) + 1e-3, $"u at {tilt}");
+        Assert.True(shifts.Max(Math.Abs) <= d.HalfWidth * (1 + 1e-12));
+    }
+
+    [Fact]
+    public void MonteCarloSamplesTheGeometryAroundItsMeanShift()
+    {
+        var c = Contribution.ForOrientation("orientation", Gamma, Calibration, 30);
+        var budget = UncertaintyBudget.Create([c], coverageProbability: 0.95);
+        var gum = budget.Evaluate();
+        var mc = CalBudget.Core.MonteCarlo.MonteCarloEngine.Run(budget, new CalBudget.Core.MonteCarlo.MonteCarloOptions { Trials = 1_000_000, Seed = 2 }, gum);
+        Check.Absolute(c.Estimate, mc.Estimate, 0.01 * c.StandardUncertainty, "mean");
+        Check.Relative(c.StandardUncertainty, mc.StandardUncertainty, 0.005, "sd");
+        double halfWidth = c.Distribution.HalfWidth;
+        Assert.InRange(mc.CoverageInterval.Low, -halfWidth, halfWidth);
+        Assert.InRange(mc.CoverageInterval.High, -halfWidth, halfWidth);
+        Assert.Equal(c.StandardUncertainty, gum.CombinedStandardUncertainty);
+    }
+
+    [Fact]
+    public void OrientationContributionsCannotBeCorrelated()
+    {
+        var o = Contribution.ForOrientation("orientation", Gamma, Calibration, 20);
+        var n = Contribution.Create("reference", InputDistribution.NormalFromStandard(1e-12));
+        var ex = Assert.Throws<MetrologyException>(() => UncertaintyBudget.Create([o, n], [Correlation.Between("orientation", "reference", 0.3)]));
+        Assert.True(ex.NotComputable);
     }
 }
