@@ -1,0 +1,114 @@
+using System.Diagnostics;
+using System.Net;
+using System.Net.Http.Headers;
+using System.Net.Sockets;
+
+namespace CalBudget.Api.Tests;
+
+/// <summary>The real executable as a child process on a loopback port: SIGTERM lets a request in flight finish.</summary>
+public sealed class GracefulShutdownTests : IDisposable
+{
+    private readonly string _dir = Path.Combine(Path.GetTempPath(), "calbudget-shutdown", Guid.NewGuid().ToString("N"));
+
+    public void Dispose()
+    {
+        Microsoft.Data.Sqlite.SqliteConnection.ClearAllPools();
+        if (Directory.Exists(_dir))
+        {
+            Directory.Delete(_dir, recursive: true);
+        }
+    }
+
+    private Process Start(params string[] args)
+    {
+        var info = new ProcessStartInfo("dotnet") { RedirectStandardOutput = true, RedirectStandardError = true, UseShellExecute = false };
+        info.ArgumentList.Add(Path.Combine(AppContext.BaseDirectory, "CalBudget.Api.dll"));
+        foreach (var a in args)
+        {
+            info.ArgumentList.Add(a);
+        }
+
+        info.Environment["CalBudget__DataDirectory"] = _dir;
+        info.Environment["DOTNET_ENVIRONMENT"] = "Production";
+        info.Environment["ASPNETCORE_ENVIRONMENT"] = "Production";
+        return Process.Start(info)!;
+    }
+
+    private static int FreePort()
+    {
+        using var listener = new TcpListener(IPAddress.Loopback, 0);
+        listener.Start();
+        return ((IPEndPoint)listener.LocalEndpoint).Port;
+    }
+
+    [Fact]
+    public async Task SigtermLetsARequestInFlightFinishAndExitsCleanly()
+    {
+        if (!OperatingSystem.IsLinux())
+        {
+            return; // SIGTERM semantics are what is tested
+        }
+
+        string key;
+        using (var keys = Start("keys", "create", "--role", "integration", "--name", "shutdown"))
+        {
+            string output = await keys.StandardOutput.ReadToEndAsync();
+            await keys.WaitForExitAsync();
+            Assert.Equal(0, keys.ExitCode);
+            key = output.TrimEnd().Split('\n')[^1].Trim();
+        }
+
+        int port = FreePort();
+        using var server = Start("--urls", $"http://127.0.0.1:{port}");
+        try
+        {
+            using var client = new HttpClient { BaseAddress = new Uri($"http://127.0.0.1:{port}"), Timeout = TimeSpan.FromSeconds(60) };
+            var deadline = DateTime.UtcNow.AddSeconds(30);
+            while (true)
+            {
+                try
+                {
+                    if ((await client.GetAsync("/health")).IsSuccessStatusCode)
+                    {
+                        break;
+                    }
+                }
+                catch (HttpRequestException) when (DateTime.UtcNow < deadline)
+                {
+                }
+
+                Assert.True(DateTime.UtcNow < deadline, "the service did not start");
+                await Task.Delay(100);
+            }
+
+            // Seconds of Monte Carlo work: 10 million trials of six Student's t inputs.
+            string inputs = string.Join(",", Enumerable.Range(0, 6).Select(i => $$"""{"name":"t{{i}}","distribution":"student-t","standardUncertainty":1,"degreesOfFreedom":3}"""));
+            var request = new HttpRequestMessage(HttpMethod.Post, "/api/v1/budgets/evaluate")
+            {
+                Content = Json.Body($$$"""{"contributions":[{{{inputs}}}],"monteCarlo":{"trials":10000000,"seed":1}}"""),
+            };
+            request.Headers.Authorization = new AuthenticationHeaderValue("Bearer", key);
+            var inFlight = client.SendAsync(request);
+            await Task.Delay(300);
+            Assert.False(inFlight.IsCompleted, "the request finished before the signal: the test would prove nothing");
+            using (var kill = Process.Start("kill", ["-TERM", server.Id.ToString(System.Globalization.CultureInfo.InvariantCulture)]))
+            {
+                await kill.WaitForExitAsync();
+            }
+
+            using var response = await inFlight;
+            Assert.Equal(HttpStatusCode.OK, response.StatusCode);
+            Assert.Contains("\"trials\":10000000", await response.Content.ReadAsStringAsync(), StringComparison.Ordinal);
+            using var exit = new CancellationTokenSource(TimeSpan.FromSeconds(40));
+            await server.WaitForExitAsync(exit.Token);
+            Assert.Equal(0, server.ExitCode);
+        }
+        finally
+        {
+            if (!server.HasExited)
+            {
+                server.Kill(entireProcessTree: true);
+            }
+        }
+    }
+}
