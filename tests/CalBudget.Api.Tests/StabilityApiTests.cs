@@ -10,19 +10,8 @@ public sealed class StabilityApiTests : IDisposable
 
     public void Dispose() => _factory.Dispose();
 
-    // NIST SP 1065 section 12 data (../shared/CHECKS.md): n(1) = 1234567890, n(i+1) = 16807 n(i) mod 2147483647.
-    private static double[] Sp1065()
-    {
-        var y = new double[1000];
-        long n = 1234567890;
-        for (int i = 0; i < y.Length; i++)
-        {
-            y[i] = n / 2147483647.0;
-            n = 16807 * n % 2147483647;
-        }
-
-        return y;
-    }
+    // NIST SP 1065 section 12 data (../shared/CHECKS.md), from the Core tests' reference file linked into this project.
+    private static double[] Sp1065() => CalBudget.Core.Tests.Stability.ReferenceData.Sp1065Frequency();
 
     private static string Body(object values, string statistics = "[\"oadev\",\"mdev\"]", string factors = "[1,10,100]", string type = "\"frequency\"", string tau0 = "1.0") =>
         $$"""{"dataType":{{type}},"tau0":{{tau0}},"values":{{Json.Serialize(values)}},"statistics":{{statistics}},"averagingFactors":{{factors}}}""";

@@ -108,7 +108,7 @@ public static class BudgetRequestMapper
             return null;
         }
 
-        int before = errors.ToDictionary().Count;
+        int before = errors.Count;
         string? name = errors.Text(c.Name, $"{at}.name", 200);
         double estimate = errors.Finite(c.Estimate, $"{at}.estimate") ?? 0;
         double sensitivity = errors.Finite(c.Sensitivity, $"{at}.sensitivity") ?? 1;
@@ -138,7 +138,7 @@ public static class BudgetRequestMapper
             distribution = MapDistribution(kind, c, u, expanded, k, a, nu, at, errors);
         }
 
-        if (errors.ToDictionary().Count != before || name is null || distribution is null)
+        if (errors.Count != before || name is null || distribution is null)
         {
             return null;
         }

@@ -8,6 +8,9 @@ public sealed class FieldErrors
     /// <summary>True when nothing has been added.</summary>
     public bool IsEmpty => _errors.Count == 0;
 
+    /// <summary>How many fields have errors.</summary>
+    public int Count => _errors.Count;
+
     /// <summary>Adds a message for <paramref name="field"/>.</summary>
     public void Add(string field, string message)
     {

@@ -24,18 +24,7 @@ internal sealed class NoiseIdentification
         _type = type;
         if (type == StabilityDataType.Frequency)
         {
-            double sum = 0;
-            int count = 0;
-            foreach (double v in values)
-            {
-                if (!double.IsNaN(v))
-                {
-                    sum += v;
-                    count++;
-                }
-            }
-
-            double mean = count > 0 ? sum / count : 0;
+            double mean = PhaseSeries.MeanOfReadings(values).Mean;
             _prefix = new double[values.Length + 1];
             _gapsBefore = new int[values.Length + 1];
             for (int i = 0; i < values.Length; i++)

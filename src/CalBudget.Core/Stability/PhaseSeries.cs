@@ -34,6 +34,23 @@ internal sealed class PhaseSeries
     /// <summary>How many readings are gaps.</summary>
     public int GapCount { get; }
 
+    /// <summary>The mean of the readings that are not gaps (0 when all are), and how many there are.</summary>
+    public static (double Mean, int Count) MeanOfReadings(ReadOnlySpan<double> values)
+    {
+        double sum = 0;
+        int count = 0;
+        foreach (double v in values)
+        {
+            if (!double.IsNaN(v))
+            {
+                sum += v;
+                count++;
+            }
+        }
+
+        return (count > 0 ? sum / count : 0, count);
+    }
+
     public static PhaseSeries From(ReadOnlySpan<double> values, StabilityDataType type, double tau0)
     {
         int gaps = 0;
@@ -58,18 +75,7 @@ internal sealed class PhaseSeries
         double[] x;
         if (type == StabilityDataType.Frequency)
         {
-            double sum = 0;
-            int n = 0;
-            foreach (double v in values)
-            {
-                if (!double.IsNaN(v))
-                {
-                    sum += v;
-                    n++;
-                }
-            }
-
-            double mean = n > 0 ? sum / n : 0;
+            double mean = MeanOfReadings(values).Mean;
             x = new double[values.Length + 1];
             for (int i = 0; i < values.Length; i++)
             {
