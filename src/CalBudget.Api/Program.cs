@@ -4,6 +4,7 @@ using CalBudget.Api.Cli;
 using CalBudget.Api.Health;
 using CalBudget.Api.Hosting;
 using CalBudget.Api.Keys;
+using CalBudget.Api.References;
 
 if (CommandLine.IsCommand(args))
 {
@@ -22,6 +23,7 @@ app.MapAnalyticsApi();
 app.MapOrientationApi();
 app.MapAgingApi();
 app.MapKeysApi();
+app.MapReferencesApi();
 
 await app.Services.InitialiseDatabaseAsync(seedDemoData: app.Environment.IsDevelopment());
 await app.RunAsync();

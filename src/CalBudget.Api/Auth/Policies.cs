@@ -14,10 +14,14 @@ public static class Policies
     /// <summary>Administrators only.</summary>
     public const string Admin = "admin";
 
+    /// <summary>Those who create and edit records: technicians and integrations.</summary>
+    public const string Writer = "writer";
+
     private static readonly Dictionary<string, string[]> Definitions = new(StringComparer.Ordinal)
     {
         [AnyRole] = [.. Roles.All],
         [Admin] = [Roles.Admin],
+        [Writer] = [Roles.Technician, Roles.Integration],
     };
 
     /// <summary>Every policy name with its roles.</summary>

@@ -1,0 +1,104 @@
+using System.Security.Claims;
+using System.Security.Cryptography;
+using System.Text;
+using System.Text.Json;
+using Microsoft.AspNetCore.Http.Json;
+using Microsoft.Extensions.Options;
+
+namespace CalBudget.Api.Hosting;
+
+/// <summary>
+/// The LIMS conventions of the HTTP contract, in one place: ETags from versions, If-Match, opaque cursors and the
+/// hash that recognises an Idempotency-Key replay.
+/// </summary>
+public static class Conventions
+{
+    /// <summary>The header that makes a creating POST replayable.</summary>
+    public const string IdempotencyKeyHeader = "Idempotency-Key";
+
+    /// <summary>The strong ETag of a version: "7".</summary>
+    public static string ETag(long version) => "\"" + version.ToString(System.Globalization.CultureInfo.InvariantCulture) + "\"";
+
+    /// <summary>The If-Match of a request: absent, "*" (any), a version, or unreadable (null version, present).</summary>
+    public static (bool Present, bool Any, long? Version) IfMatch(HttpRequest request)
+    {
+        ArgumentNullException.ThrowIfNull(request);
+        string? raw = request.Headers.IfMatch;
+        if (string.IsNullOrWhiteSpace(raw))
+        {
+            return (false, false, null);
+        }
+
+        raw = raw.Trim();
+        if (raw == "*")
+        {
+            return (true, true, null);
+        }
+
+        if (raw.StartsWith("W/", StringComparison.Ordinal))
+        {
+            raw = raw[2..];
+        }
+
+        return long.TryParse(raw.Trim('"'), System.Globalization.NumberStyles.None, System.Globalization.CultureInfo.InvariantCulture, out long v)
+            ? (true, false, v)
+            : (true, false, null);
+    }
+
+    /// <summary>The check every update makes: 428 without If-Match, 412 when it names another version. Null when it matches.</summary>
+    public static Microsoft.AspNetCore.Http.HttpResults.ProblemHttpResult? CheckIfMatch(HttpRequest request, long currentVersion)
+    {
+        var (present, any, version) = IfMatch(request);
+        if (!present)
+        {
+            return Problems.Status(StatusCodes.Status428PreconditionRequired, "If-Match is required.",
+                "Send the ETag you read as If-Match, so that an update cannot overwrite a change you have not seen.");
+        }
+
+        return any || version == currentVersion
+            ? null
+            : Problems.Status(StatusCodes.Status412PreconditionFailed, "The record has changed since you read it.",
+                $"If-Match names version {version?.ToString(System.Globalization.CultureInfo.InvariantCulture) ?? "(unreadable)"}; the current version is {currentVersion}. Read it again and reapply your change.");
+    }
+
+    /// <summary>An opaque cursor for "after this id".</summary>
+    public static string Cursor(long afterId) =>
+        Convert.ToBase64String(Encoding.UTF8.GetBytes("after:" + afterId.ToString(System.Globalization.CultureInfo.InvariantCulture))).TrimEnd('=').Replace('+', '-').Replace('/', '_');
+
+    /// <summary>The id a cursor stands for: 0 for none, null when it is not one of ours.</summary>
+    public static long? AfterId(string? cursor)
+    {
+        if (string.IsNullOrEmpty(cursor))
+        {
+            return 0;
+        }
+
+        try
+        {
+            string padded = cursor.Replace('-', '+').Replace('_', '/');
+            padded += new string('=', (4 - padded.Length % 4) % 4);
+            string text = Encoding.UTF8.GetString(Convert.FromBase64String(padded));
+            return text.StartsWith("after:", StringComparison.Ordinal) && long.TryParse(text[6..], System.Globalization.NumberStyles.None, System.Globalization.CultureInfo.InvariantCulture, out long id) && id >= 0
+                ? id
+                : null;
+        }
+        catch (FormatException)
+        {
+            return null;
+        }
+    }
+
+    /// <summary>SHA-256 of the request as bound, serialised with the service's JSON settings (formatting does not matter, content does).</summary>
+    public static byte[] RequestHash<T>(T request, IOptions<JsonOptions> json)
+    {
+        ArgumentNullException.ThrowIfNull(json);
+        return SHA256.HashData(JsonSerializer.SerializeToUtf8Bytes(request, json.Value.SerializerOptions));
+    }
+
+    /// <summary>Who is asking: the key's (or user's) name.</summary>
+    public static string Actor(ClaimsPrincipal user)
+    {
+        ArgumentNullException.ThrowIfNull(user);
+        return user.Identity?.Name ?? "unknown";
+    }
+}
