@@ -178,20 +178,10 @@ public static class ReferencesApi
         }
 
         await using var work = await UnitOfWork.BeginAsync(database, ct);
-        var current = await ReferenceStandardStore.GetAsync(work, id);
+        var (current, refused) = await CurrentForChangeAsync(work, id, http.Request);
         if (current is null)
         {
-            return NotFound(id);
-        }
-
-        if (Conventions.CheckIfMatch(http.Request, current.Version) is { } precondition)
-        {
-            return precondition;
-        }
-
-        if (current.RetiredAt is not null)
-        {
-            return Problems.Status(StatusCodes.Status409Conflict, "The reference is retired.", "A retired reference stays on record as it was; it cannot be edited.");
+            return refused!;
         }
 
         if (await ReferenceStandardStore.IdentityTakenAsync(work, fields.Identity, id))
@@ -222,20 +212,10 @@ public static class ReferencesApi
         }
 
         await using var work = await UnitOfWork.BeginAsync(database, ct);
-        var current = await ReferenceStandardStore.GetAsync(work, id);
+        var (current, refused) = await CurrentForChangeAsync(work, id, http.Request);
         if (current is null)
         {
-            return NotFound(id);
-        }
-
-        if (Conventions.CheckIfMatch(http.Request, current.Version) is { } precondition)
-        {
-            return precondition;
-        }
-
-        if (current.RetiredAt is not null)
-        {
-            return Problems.Status(StatusCodes.Status409Conflict, "The reference is retired already.");
+            return refused!;
         }
 
         var now = time.GetUtcNow();
@@ -244,6 +224,25 @@ public static class ReferencesApi
         await work.CommitAsync(ct);
         http.Response.Headers.ETag = Conventions.ETag(retired.Version);
         return TypedResults.Ok(ToDto(retired, now));
+    }
+
+    // The record a change applies to, or why the change is refused: 404, 428/412 (If-Match), 409 (retired).
+    private static async Task<(ReferenceStandard? Current, ProblemHttpResult? Refused)> CurrentForChangeAsync(UnitOfWork work, long id, HttpRequest request)
+    {
+        var current = await ReferenceStandardStore.GetAsync(work, id);
+        if (current is null)
+        {
+            return (null, NotFound(id));
+        }
+
+        if (Conventions.CheckIfMatch(request, current.Version) is { } precondition)
+        {
+            return (null, precondition);
+        }
+
+        return current.RetiredAt is not null
+            ? (null, Problems.Status(StatusCodes.Status409Conflict, "The reference is retired.", "A retired reference stays on record as it was; it cannot be changed."))
+            : (current, null);
     }
 
     private static ProblemHttpResult NotFound(long id) =>
