@@ -34,6 +34,15 @@ public sealed class GracefulShutdownTests : IDisposable
         return Process.Start(info)!;
     }
 
+    private static class Native
+    {
+        public const int SigTerm = 15;
+
+        // kill(2) from the C library: the same signal a service manager sends, with no command-line tool needed.
+        [System.Runtime.InteropServices.DllImport("libc", EntryPoint = "kill", SetLastError = true)]
+        public static extern int Kill(int pid, int signal);
+    }
+
     private static int FreePort()
     {
         using var listener = new TcpListener(IPAddress.Loopback, 0);
@@ -91,10 +100,7 @@ public sealed class GracefulShutdownTests : IDisposable
             var inFlight = client.SendAsync(request);
             await Task.Delay(300);
             Assert.False(inFlight.IsCompleted, "the request finished before the signal: the test would prove nothing");
-            using (var kill = Process.Start("kill", ["-TERM", server.Id.ToString(System.Globalization.CultureInfo.InvariantCulture)]))
-            {
-                await kill.WaitForExitAsync();
-            }
+            Assert.Equal(0, Native.Kill(server.Id, Native.SigTerm));
 
             using var response = await inFlight;
             Assert.Equal(HttpStatusCode.OK, response.StatusCode);
