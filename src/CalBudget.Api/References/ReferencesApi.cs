@@ -18,6 +18,7 @@ public static class ReferencesApi
     public const int DueSoonDays = 30;
 
     private const string CreateOperation = "references.create";
+    private const string Noun = "reference standard";
 
     /// <summary>Maps the routes.</summary>
     public static IEndpointRouteBuilder MapReferencesApi(this IEndpointRouteBuilder routes)
@@ -104,7 +105,7 @@ public static class ReferencesApi
     }
 
     /// <summary>POST /api/v1/references.</summary>
-    public static async Task<Results<Created<ReferenceStandardDto>, ContentHttpResult, ProblemHttpResult>> Create(
+    public static async Task<IResult> Create(
         ReferenceStandardRequest request, HttpContext http, IDbConnectionFactory database, TimeProvider time, IOptions<JsonOptions> json,
         [FromHeader(Name = Conventions.IdempotencyKeyHeader)] string? idempotencyKey, CancellationToken ct)
     {
@@ -113,10 +114,7 @@ public static class ReferencesApi
         ArgumentNullException.ThrowIfNull(json);
         var errors = new FieldErrors();
         var fields = Map(request, errors);
-        if (idempotencyKey is { Length: > 200 })
-        {
-            errors.Add(Conventions.IdempotencyKeyHeader, "At most 200 characters.");
-        }
+        IdempotentCreate.CheckKey(idempotencyKey, errors);
 
         if (fields is null || !errors.IsEmpty)
         {
@@ -127,22 +125,9 @@ public static class ReferencesApi
         var now = time.GetUtcNow();
         byte[] hash = Conventions.RequestHash(request, json);
         await using var work = await UnitOfWork.BeginAsync(database, ct);
-        if (idempotencyKey is not null && await IdempotencyStore.FindAsync(work, actor, idempotencyKey, CreateOperation) is { } earlier)
+        if (await IdempotentCreate.ReplayAsync(work, http, idempotencyKey, CreateOperation, hash) is { } replay)
         {
-            if (!earlier.RequestHash.AsSpan().SequenceEqual(hash))
-            {
-                return Problems.NotComputable(new Dictionary<string, string[]>
-                {
-                    [Conventions.IdempotencyKeyHeader] = ["This key was used with another request body; use a new key for a new request."],
-                });
-            }
-
-            if (earlier.Location is not null)
-            {
-                http.Response.Headers.Location = earlier.Location;
-            }
-
-            return TypedResults.Content(earlier.ResponseBody, "application/json", System.Text.Encoding.UTF8, (int)earlier.StatusCode);
+            return replay;
         }
 
         if (await ReferenceStandardStore.IdentityTakenAsync(work, fields.Identity))
@@ -153,11 +138,7 @@ public static class ReferencesApi
         var created = await ReferenceStandardStore.CreateAsync(work, fields, actor, now);
         var dto = ToDto(created, now);
         string location = $"/api/v1/references/{created.Id}";
-        if (idempotencyKey is not null)
-        {
-            string body = JsonSerializer.Serialize(dto, json.Value.SerializerOptions);
-            await IdempotencyStore.SaveAsync(work, actor, idempotencyKey, CreateOperation, new IdempotencyRecord(hash, StatusCodes.Status201Created, location, body), now);
-        }
+        await IdempotentCreate.RecordAsync(work, http, idempotencyKey, CreateOperation, hash, location, dto, json, now);
 
         await work.CommitAsync(ct);
         http.Response.Headers.ETag = Conventions.ETag(created.Version);
@@ -178,10 +159,10 @@ public static class ReferencesApi
         }
 
         await using var work = await UnitOfWork.BeginAsync(database, ct);
-        var (current, refused) = await CurrentForChangeAsync(work, id, http.Request);
-        if (current is null)
+        var current = await ReferenceStandardStore.GetAsync(work, id);
+        if (ChangeCheck.Refusal(current, http.Request, Noun, id) is { } refused)
         {
-            return refused!;
+            return refused;
         }
 
         if (await ReferenceStandardStore.IdentityTakenAsync(work, fields.Identity, id))
@@ -190,7 +171,7 @@ public static class ReferencesApi
         }
 
         var now = time.GetUtcNow();
-        await ReferenceStandardStore.UpdateAsync(work, id, current.Version, fields, Conventions.Actor(http.User), now);
+        await ReferenceStandardStore.UpdateAsync(work, id, current!.Version, fields, Conventions.Actor(http.User), now);
         var updated = (await ReferenceStandardStore.GetAsync(work, id))!;
         await work.CommitAsync(ct);
         http.Response.Headers.ETag = Conventions.ETag(updated.Version);
@@ -212,37 +193,18 @@ public static class ReferencesApi
         }
 
         await using var work = await UnitOfWork.BeginAsync(database, ct);
-        var (current, refused) = await CurrentForChangeAsync(work, id, http.Request);
-        if (current is null)
+        var current = await ReferenceStandardStore.GetAsync(work, id);
+        if (ChangeCheck.Refusal(current, http.Request, Noun, id) is { } refused)
         {
-            return refused!;
+            return refused;
         }
 
         var now = time.GetUtcNow();
-        await ReferenceStandardStore.RetireAsync(work, id, current.Version, reason, Conventions.Actor(http.User), now);
+        await ReferenceStandardStore.RetireAsync(work, id, current!.Version, reason, Conventions.Actor(http.User), now);
         var retired = (await ReferenceStandardStore.GetAsync(work, id))!;
         await work.CommitAsync(ct);
         http.Response.Headers.ETag = Conventions.ETag(retired.Version);
         return TypedResults.Ok(ToDto(retired, now));
-    }
-
-    // The record a change applies to, or why the change is refused: 404, 428/412 (If-Match), 409 (retired).
-    private static async Task<(ReferenceStandard? Current, ProblemHttpResult? Refused)> CurrentForChangeAsync(UnitOfWork work, long id, HttpRequest request)
-    {
-        var current = await ReferenceStandardStore.GetAsync(work, id);
-        if (current is null)
-        {
-            return (null, NotFound(id));
-        }
-
-        if (Conventions.CheckIfMatch(request, current.Version) is { } precondition)
-        {
-            return (null, precondition);
-        }
-
-        return current.RetiredAt is not null
-            ? (null, Problems.Status(StatusCodes.Status409Conflict, "The reference is retired.", "A retired reference stays on record as it was; it cannot be changed."))
-            : (current, null);
     }
 
     private static ProblemHttpResult NotFound(long id) =>

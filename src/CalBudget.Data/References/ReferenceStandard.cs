@@ -36,7 +36,7 @@ public sealed record ReferenceStandardFields(string Identity, string Kind, strin
 /// <param name="UpdatedAt">Last change.</param>
 /// <param name="UpdatedBy">By whom.</param>
 public sealed record ReferenceStandard(long Id, ReferenceStandardFields Fields, long Version, DateTimeOffset? RetiredAt, string? RetiredReason,
-    DateTimeOffset CreatedAt, string CreatedBy, DateTimeOffset UpdatedAt, string UpdatedBy)
+    DateTimeOffset CreatedAt, string CreatedBy, DateTimeOffset UpdatedAt, string UpdatedBy) : IVersionedRecord
 {
     /// <summary>Whether a new calibration run may use it at <paramref name="now"/>, and if not, why.</summary>
     public (bool Usable, string? Reason) UsableAt(DateTimeOffset now) =>
