@@ -3,6 +3,7 @@ using CalBudget.Api.Budgets;
 using CalBudget.Api.Cli;
 using CalBudget.Api.Health;
 using CalBudget.Api.Hosting;
+using CalBudget.Api.Instruments;
 using CalBudget.Api.Keys;
 using CalBudget.Api.References;
 
@@ -24,6 +25,7 @@ app.MapOrientationApi();
 app.MapAgingApi();
 app.MapKeysApi();
 app.MapReferencesApi();
+app.MapInstrumentsApi();
 
 await app.Services.InitialiseDatabaseAsync(seedDemoData: app.Environment.IsDevelopment());
 await app.RunAsync();

@@ -157,7 +157,8 @@ public static class OrientationApi
         }
     }
 
-    private static Posture? ReadPosture(JsonElement? element, string field, FieldErrors errors)
+    /// <summary>A posture from JSON: a named axis or a vector of three numbers; errors go under <paramref name="field"/>.</summary>
+    public static Posture? ReadPosture(JsonElement? element, string field, FieldErrors errors)
     {
         try
         {

@@ -61,6 +61,34 @@ public static class Conventions
                 $"If-Match names version {version?.ToString(System.Globalization.CultureInfo.InvariantCulture) ?? "(unreadable)"}; the current version is {currentVersion}. Read it again and reapply your change.");
     }
 
+    /// <summary>The paging parameters of a list request: how many (1 to 200, default 50) and after which id; errors name limit or cursor.</summary>
+    public static (int Take, long After) PageRequest(int? limit, string? cursor, FieldErrors errors)
+    {
+        ArgumentNullException.ThrowIfNull(errors);
+        if (limit is < 1 or > 200)
+        {
+            errors.Add("limit", "Between 1 and 200.");
+        }
+
+        long? after = AfterId(cursor);
+        if (after is null)
+        {
+            errors.Add("cursor", "Not a cursor this service issued.");
+        }
+
+        return (limit ?? 50, after ?? 0);
+    }
+
+    /// <summary>A page from up to take + 1 rows read: the first take, and a cursor when there were more.</summary>
+    public static Page<TDto> Page<TRow, TDto>(IReadOnlyList<TRow> rows, int take, Func<TRow, TDto> map, Func<TRow, long> id)
+    {
+        ArgumentNullException.ThrowIfNull(rows);
+        ArgumentNullException.ThrowIfNull(map);
+        ArgumentNullException.ThrowIfNull(id);
+        var kept = rows.Take(take).ToArray();
+        return new Page<TDto>(kept.Select(map).ToArray(), rows.Count > take ? Cursor(id(kept[^1])) : null);
+    }
+
     /// <summary>An opaque cursor for "after this id".</summary>
     public static string Cursor(long afterId) =>
         Convert.ToBase64String(Encoding.UTF8.GetBytes("after:" + afterId.ToString(System.Globalization.CultureInfo.InvariantCulture))).TrimEnd('=').Replace('+', '-').Replace('/', '_');

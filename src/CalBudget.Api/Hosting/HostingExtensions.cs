@@ -56,6 +56,7 @@ public static class HostingExtensions
         builder.Services.AddSingleton(sp => new SqliteDatabase(sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value.DataDirectory));
         builder.Services.AddSingleton<IDbConnectionFactory>(sp => sp.GetRequiredService<SqliteDatabase>());
         builder.Services.AddSingleton<CalBudget.Data.References.ReferenceStandardStore>();
+        builder.Services.AddSingleton<CalBudget.Data.Instruments.InstrumentStore>();
         builder.Services.AddSingleton(sp => new ApiKeyStore(sp.GetRequiredService<IDbConnectionFactory>(), sp.GetRequiredService<TimeProvider>())
         {
             CacheLifetime = sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value.KeyCacheLifetime,

@@ -43,12 +43,6 @@ public sealed record ReferenceStandardDto(long Id, string Identity, string Kind,
     ReferenceCalibrationDto Calibration, DateTimeOffset DueDate, string Status, bool Usable, DateTimeOffset? RetiredAt, string? RetiredReason,
     long Version, DateTimeOffset CreatedAt, string CreatedBy, DateTimeOffset UpdatedAt, string UpdatedBy);
 
-/// <summary>One page of a list.</summary>
-/// <typeparam name="T">The item type.</typeparam>
-/// <param name="Items">The items, in a stable order.</param>
-/// <param name="NextCursor">Pass as ?cursor= for the next page; null on the last.</param>
-public sealed record Page<T>(IReadOnlyList<T> Items, string? NextCursor);
-
 /// <summary>Why a record is retired.</summary>
 /// <param name="Reason">1 to 1000 characters.</param>
 public sealed record RetireRequest(string? Reason);

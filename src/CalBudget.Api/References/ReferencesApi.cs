@@ -40,16 +40,12 @@ public static class ReferencesApi
         write.MapPut("/{id:long}", Update).WithName("UpdateReference").WithSummary("Replace a reference standard's record (If-Match required)")
             .WithDescription("If-Match: the ETag read; without it 428, with an older one 412. A retired reference cannot be edited (409).")
             .Accepts<ReferenceStandardRequest>("application/json")
-            .ProducesValidationProblem(StatusCodes.Status400BadRequest).ProducesProblem(StatusCodes.Status404NotFound)
-            .ProducesProblem(StatusCodes.Status409Conflict).ProducesProblem(StatusCodes.Status412PreconditionFailed)
-            .ProducesProblem(StatusCodes.Status428PreconditionRequired);
+            .ProducesChangeRefusals();
 
         var admin = routes.MapGroup("/api/v1/references").WithTags("References").RequireAuthorization(Policies.Admin);
         admin.MapPost("/{id:long}/retire", Retire).WithName("RetireReference").WithSummary("Retire a reference standard (If-Match required); it stays on record")
             .Accepts<RetireRequest>("application/json")
-            .ProducesValidationProblem(StatusCodes.Status400BadRequest).ProducesProblem(StatusCodes.Status404NotFound)
-            .ProducesProblem(StatusCodes.Status409Conflict).ProducesProblem(StatusCodes.Status412PreconditionFailed)
-            .ProducesProblem(StatusCodes.Status428PreconditionRequired);
+            .ProducesChangeRefusals();
         return routes;
     }
 
@@ -60,17 +56,7 @@ public static class ReferencesApi
         ArgumentNullException.ThrowIfNull(store);
         ArgumentNullException.ThrowIfNull(time);
         var errors = new FieldErrors();
-        if (limit is < 1 or > 200)
-        {
-            errors.Add("limit", "Between 1 and 200.");
-        }
-
-        long? after = Conventions.AfterId(cursor);
-        if (after is null)
-        {
-            errors.Add("cursor", "Not a cursor this service issued.");
-        }
-
+        var (take, after) = Conventions.PageRequest(limit, cursor, errors);
         if (kind is not null && !ReferenceKinds.All.Contains(kind))
         {
             errors.Add("kind", $"One of {string.Join(", ", ReferenceKinds.All)}.");
@@ -81,11 +67,9 @@ public static class ReferencesApi
             return Problems.Invalid(errors.ToDictionary());
         }
 
-        int take = limit ?? 50;
-        var rows = await store.ListAsync(after!.Value, take + 1, kind, string.IsNullOrWhiteSpace(text) ? null : text.Trim(), includeRetired ?? false, ct);
+        var rows = await store.ListAsync(after, take + 1, kind, string.IsNullOrWhiteSpace(text) ? null : text.Trim(), includeRetired ?? false, ct);
         var now = time.GetUtcNow();
-        var items = rows.Take(take).Select(r => ToDto(r, now)).ToArray();
-        return TypedResults.Ok(new Page<ReferenceStandardDto>(items, rows.Count > take ? Conventions.Cursor(items[^1].Id) : null));
+        return TypedResults.Ok(Conventions.Page(rows, take, r => ToDto(r, now), r => r.Id));
     }
 
     /// <summary>GET /api/v1/references/{id}.</summary>

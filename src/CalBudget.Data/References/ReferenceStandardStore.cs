@@ -104,7 +104,7 @@ public sealed class ReferenceStandardStore(IDbConnectionFactory database)
     public async Task<IReadOnlyList<ReferenceStandard>> ListAsync(long afterId, int limit, string? kind, string? text, bool includeRetired, CancellationToken ct = default)
     {
         await using var connection = await database.OpenAsync(ct);
-        string? like = text is null ? null : "%" + text.Replace("\\", "\\\\", StringComparison.Ordinal).Replace("%", "\\%", StringComparison.Ordinal).Replace("_", "\\_", StringComparison.Ordinal) + "%";
+        string? like = Sql.ContainsPattern(text);
         var rows = await connection.QueryAsync<Row>(new CommandDefinition(PageSql,
             new { after = afterId, take = limit, kind, text = like, includeRetired = includeRetired ? 1 : 0 }, cancellationToken: ct));
         return rows.Select(r => r.ToModel()).ToArray();
