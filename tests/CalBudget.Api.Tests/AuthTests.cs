@@ -122,16 +122,25 @@ public sealed class AuthTests : IDisposable
     }
 
     [Fact]
-    public async Task DemoKeysExistOnlyInDevelopment()
+    public async Task DemoKeysAndRecordsExistOnlyInDevelopment()
     {
         var (_, _, demoKey) = DatabaseStartup.DemoKeys[0];
         using (var development = new ServiceFactory("Development"))
         {
-            await Json.ReadAsync(await development.ClientWithKey(demoKey).PostAsync("/api/v1/budgets/evaluate", Json.Body(Budget)), HttpStatusCode.OK);
+            var client = development.ClientWithKey(demoKey);
+            await Json.ReadAsync(await client.PostAsync("/api/v1/budgets/evaluate", Json.Body(Budget)), HttpStatusCode.OK);
+            // the invented demo laboratory: a dozen instruments of several kinds, two references, one falling due
+            var instruments = await Json.ReadAsync(await client.GetAsync("/api/v1/instruments?limit=200"), HttpStatusCode.OK);
+            Assert.Equal(12, instruments["items"]!.AsArray().Count);
+            Assert.True(instruments["items"]!.AsArray().Select(i => i!["timebase"]!["oscillatorKind"]!.GetValue<string>()).Distinct().Count() >= 5);
+            var references = await Json.ReadAsync(await client.GetAsync("/api/v1/references"), HttpStatusCode.OK);
+            Assert.Equal(["due soon", "in calibration"], references["items"]!.AsArray().Select(r => r!["status"]!.GetValue<string>()));
         }
 
         using var production = new ServiceFactory("Production");
         await Json.ProblemAsync(await production.ClientWithKey(demoKey).PostAsync("/api/v1/budgets/evaluate", Json.Body(Budget)), HttpStatusCode.Unauthorized);
+        var admin = await production.ClientAsync(Roles.Admin);
+        Assert.Empty((await Json.ReadAsync(await admin.GetAsync("/api/v1/instruments"), HttpStatusCode.OK))["items"]!.AsArray());
     }
 }
 

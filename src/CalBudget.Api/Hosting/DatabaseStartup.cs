@@ -36,6 +36,7 @@ public static class DatabaseStartup
                 await keys.InsertDemoKeyAsync(name, role, key, ct);
             }
 
+            await DemoData.SeedAsync(services, ct);
             Log.DemoKeysSeeded(log);
         }
     }

@@ -15,6 +15,6 @@ internal static partial class Log
     [LoggerMessage(4, LogLevel.Information, "Database {File}: {Count} migration(s) applied")]
     public static partial void DatabaseReady(ILogger logger, string file, int count);
 
-    [LoggerMessage(5, LogLevel.Warning, "New Development database: demo keys seeded (demo only; see the README)")]
+    [LoggerMessage(5, LogLevel.Warning, "New Development database: demo keys and demo records seeded (demo only; see the README)")]
     public static partial void DemoKeysSeeded(ILogger logger);
 }
