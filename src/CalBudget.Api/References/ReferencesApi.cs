@@ -1,8 +1,6 @@
-using System.Text.Json;
 using CalBudget.Api.Auth;
 using CalBudget.Api.Hosting;
 using CalBudget.Data;
-using CalBudget.Data.Idempotency;
 using CalBudget.Data.References;
 using Microsoft.AspNetCore.Http.HttpResults;
 using Microsoft.AspNetCore.Http.Json;

@@ -91,18 +91,21 @@ public static class TimebaseTypeA
             return new TypeAEvaluation(mean, sdom, n - 1, TypeAEstimator.StandardDeviationOfMean, alpha, why, n);
         }
 
+        // The Allan deviation at half the run, with the edf for the noise just identified (asking the full analysis for this
+        // one factor would identify the noise again there, from too few points, and fall back to white FM).
         int half = Math.Max(1, y.Length / 2);
-        var point = StabilityAnalysis.Analyse(readings, StabilityDataType.Frequency, tau0, [StabilityStatistic.Oadev], [half])
-            .Results[StabilityStatistic.Oadev];
-        if (point.Count == 0)
+        var series = PhaseSeries.From(y, StabilityDataType.Frequency, tau0);
+        var estimate = Deviations.Variance(series, StabilityStatistic.Oadev, half);
+        if (estimate.Terms == 0 || !(estimate.Variance >= 0))
         {
             return new TypeAEvaluation(mean, sdom, n - 1, TypeAEstimator.StandardDeviationOfMean, alpha,
                 "The Allan deviation at half the run could not be computed (gaps); standard deviation of the mean used.", n);
         }
 
-        var p = point[0];
-        return new TypeAEvaluation(mean, p.Deviation, p.DegreesOfFreedom, TypeAEstimator.AllanDeviation, alpha,
+        double deviation = Math.Sqrt(estimate.Variance);
+        double edf = EquivalentDegreesOfFreedom.Compute(StabilityStatistic.Oadev, alpha.Value, half, estimate.Terms, series.Length);
+        return new TypeAEvaluation(mean, deviation, edf, TypeAEstimator.AllanDeviation, alpha,
             $"{NoiseType.Name(alpha.Value)} identified: the readings are correlated and the standard deviation of the mean understates the scatter; " +
-            $"overlapping Allan deviation at tau = {p.Tau:G4} s (half the run) with its equivalent degrees of freedom.", n);
+            $"overlapping Allan deviation at tau = {half * tau0:G4} s (half the run) with its equivalent degrees of freedom.", n);
     }
 }
