@@ -1,5 +1,6 @@
 using CalBudget.Api.Analytics;
 using CalBudget.Api.Budgets;
+using CalBudget.Api.Calibrations;
 using CalBudget.Api.Cli;
 using CalBudget.Api.Health;
 using CalBudget.Api.Hosting;
@@ -26,6 +27,8 @@ app.MapAgingApi();
 app.MapKeysApi();
 app.MapReferencesApi();
 app.MapInstrumentsApi();
+app.MapCalibrationsApi();
+app.MapReadingsApi();
 
 await app.Services.InitialiseDatabaseAsync(seedDemoData: app.Environment.IsDevelopment());
 await app.RunAsync();

@@ -135,12 +135,19 @@ public sealed class AuthTests : IDisposable
             Assert.True(instruments["items"]!.AsArray().Select(i => i!["timebase"]!["oscillatorKind"]!.GetValue<string>()).Distinct().Count() >= 5);
             var references = await Json.ReadAsync(await client.GetAsync("/api/v1/references"), HttpStatusCode.OK);
             Assert.Equal(["due soon", "in calibration"], references["items"]!.AsArray().Select(r => r!["status"]!.GetValue<string>()));
+            // a few runs with synthetic readings, one of them corrected by a second upload
+            var runs = (await Json.ReadAsync(await client.GetAsync("/api/v1/calibrations"), HttpStatusCode.OK))["items"]!.AsArray();
+            Assert.InRange(runs.Count, 3, 10);
+            Assert.All(runs, r => Assert.True(r!["readings"]!["count"]!.GetValue<long>() >= 100));
+            Assert.Contains(runs, r => r!["readings"]!["uploads"]!.GetValue<long>() == 2);
+            Assert.Contains(runs, r => r!["posture"]!["name"] is null);
         }
 
         using var production = new ServiceFactory("Production");
         await Json.ProblemAsync(await production.ClientWithKey(demoKey).PostAsync("/api/v1/budgets/evaluate", Json.Body(Budget)), HttpStatusCode.Unauthorized);
         var admin = await production.ClientAsync(Roles.Admin);
         Assert.Empty((await Json.ReadAsync(await admin.GetAsync("/api/v1/instruments"), HttpStatusCode.OK))["items"]!.AsArray());
+        Assert.Empty((await Json.ReadAsync(await admin.GetAsync("/api/v1/calibrations"), HttpStatusCode.OK))["items"]!.AsArray());
     }
 }
 

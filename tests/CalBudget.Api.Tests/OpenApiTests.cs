@@ -62,4 +62,28 @@ public sealed class OpenApiTests : IDisposable
         Assert.Equal(5, op["x-roles"]!.AsArray().Count);
         Assert.Contains("copula", op["description"]!.GetValue<string>(), StringComparison.Ordinal);
     }
+
+    [Fact]
+    public async Task ReadingsDocumentBothFormatsAndTheCsvColumns()
+    {
+        var path = (await Document())["paths"]!["/api/v1/calibrations/{id}/readings"]!;
+        var upload = path["post"]!;
+        Assert.Equal("string", upload["requestBody"]!["content"]!["text/csv"]!["schema"]!["type"]!.GetValue<string>());
+        Assert.NotEqual("string", upload["requestBody"]!["content"]!["application/json"]!["schema"]!["type"]?.GetValue<string>());
+        foreach (string status in new[] { "201", "400", "404", "409", "413", "415", "422" })
+        {
+            Assert.NotNull(upload["responses"]![status]);
+        }
+
+        foreach (string column in new[] { "timestamp", "frequencyHz", "fractionalOffset", "gateTimeSeconds", "reason" })
+        {
+            Assert.Contains(column, upload["description"]!.GetValue<string>(), StringComparison.Ordinal);
+        }
+
+        Assert.Equal(["technician", "integration"], upload["x-roles"]!.AsArray().Select(r => r!.GetValue<string>()));
+        var table = path["get"]!["responses"]!["200"]!["content"]!;
+        Assert.Equal("string", table["text/csv"]!["schema"]!["type"]!.GetValue<string>());
+        Assert.NotEqual("string", table["application/json"]!["schema"]!["type"]?.GetValue<string>());
+        Assert.NotNull(path["get"]!["responses"]!["406"]);
+    }
 }

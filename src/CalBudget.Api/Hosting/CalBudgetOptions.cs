@@ -15,6 +15,9 @@ public sealed class CalBudgetOptions
     /// <summary>The largest request body accepted, in bytes (413 beyond it).</summary>
     public long MaxRequestBodyBytes { get; set; } = 32L * 1024 * 1024;
 
+    /// <summary>The largest upload of readings accepted as text/csv, in bytes (413 beyond it); JSON readings keep <see cref="MaxRequestBodyBytes"/>.</summary>
+    public long MaxReadingsUploadBytes { get; set; } = 256L * 1024 * 1024;
+
     /// <summary>The ceiling on Monte Carlo trials per evaluation (422 beyond it).</summary>
     public long MonteCarloMaxTrials { get; set; } = Core.MonteCarlo.MonteCarloOptions.DefaultMaxTrials;
 

@@ -53,10 +53,13 @@ public static class HostingExtensions
         builder.Services.AddExceptionHandler<RequestExceptionHandler>();
 
         builder.Services.AddSingleton(TimeProvider.System);
-        builder.Services.AddSingleton(sp => new SqliteDatabase(sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value.DataDirectory));
+        builder.Services.AddSingleton(sp => new SqliteDatabase(sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value.DataDirectory, backgroundCheckpoints: true));
+        builder.Services.AddHostedService<WalCheckpointer>();
         builder.Services.AddSingleton<IDbConnectionFactory>(sp => sp.GetRequiredService<SqliteDatabase>());
         builder.Services.AddSingleton<CalBudget.Data.References.ReferenceStandardStore>();
         builder.Services.AddSingleton<CalBudget.Data.Instruments.InstrumentStore>();
+        builder.Services.AddSingleton<CalBudget.Data.Calibrations.CalibrationRunStore>();
+        builder.Services.AddSingleton<CalBudget.Data.Calibrations.ReadingStore>();
         builder.Services.AddSingleton(sp => new ApiKeyStore(sp.GetRequiredService<IDbConnectionFactory>(), sp.GetRequiredService<TimeProvider>())
         {
             CacheLifetime = sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value.KeyCacheLifetime,

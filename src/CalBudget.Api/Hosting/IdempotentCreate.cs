@@ -69,6 +69,42 @@ public static class IdempotentCreate
 /// <summary>The decision whether a stored record may change, shared by every resource.</summary>
 public static class ChangeCheck
 {
+    /// <summary>
+    /// The retirement of a record, the same for every resource: a reason (1 to 1000 characters), the change checks, the
+    /// retirement in one unit of work, and the retired record with its new ETag.
+    /// </summary>
+    public static async Task<Results<Ok<TDto>, ProblemHttpResult>> RetireAsync<TRecord, TDto>(long id, string? reason, HttpContext http,
+        IDbConnectionFactory database, TimeProvider time, string what, Func<UnitOfWork, long, Task<TRecord?>> read,
+        Func<UnitOfWork, long, long, string, string, DateTimeOffset, Task<bool>> retire, Func<TRecord, DateTimeOffset, TDto> answer, CancellationToken ct)
+        where TRecord : class, IVersionedRecord
+    {
+        ArgumentNullException.ThrowIfNull(http);
+        ArgumentNullException.ThrowIfNull(time);
+        ArgumentNullException.ThrowIfNull(read);
+        ArgumentNullException.ThrowIfNull(retire);
+        ArgumentNullException.ThrowIfNull(answer);
+        var errors = new FieldErrors();
+        string? why = errors.Text(reason, "reason", 1000);
+        if (why is null)
+        {
+            return Problems.Invalid(errors.ToDictionary());
+        }
+
+        await using var work = await UnitOfWork.BeginAsync(database, ct);
+        var current = await read(work, id);
+        if (Refusal(current, http.Request, what, id) is { } refused)
+        {
+            return refused;
+        }
+
+        var now = time.GetUtcNow();
+        await retire(work, id, current!.Version, why, Conventions.Actor(http.User), now);
+        var retired = (await read(work, id))!;
+        await work.CommitAsync(ct);
+        http.Response.Headers.ETag = Conventions.ETag(retired.Version);
+        return TypedResults.Ok(answer(retired, now));
+    }
+
     /// <summary>Null when the change may go ahead; else 404, 428 or 412 (If-Match), or 409 (retired).</summary>
     public static ProblemHttpResult? Refusal(IVersionedRecord? current, HttpRequest request, string what, long id)
     {

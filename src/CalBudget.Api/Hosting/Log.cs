@@ -17,4 +17,7 @@ internal static partial class Log
 
     [LoggerMessage(5, LogLevel.Warning, "New Development database: demo keys and demo records seeded (demo only; see the README)")]
     public static partial void DemoKeysSeeded(ILogger logger);
+
+    [LoggerMessage(6, LogLevel.Warning, "Write-ahead log checkpoint failed; it is retried")]
+    public static partial void CheckpointFailed(ILogger logger, Exception exception);
 }

@@ -25,6 +25,15 @@ public static class Problems
         return ex.NotComputable ? NotComputable(errors, ex.Message) : Invalid(errors, ex.Message);
     }
 
+    /// <summary>409: the request conflicts with what is on record; <paramref name="field"/> names what conflicts.</summary>
+    public static ProblemHttpResult Conflict(string field, string title, string detail) =>
+        TypedResults.Problem(new HttpValidationProblemDetails(new Dictionary<string, string[]> { [field] = [detail] })
+        {
+            Status = StatusCodes.Status409Conflict,
+            Title = title,
+            Detail = detail,
+        });
+
     /// <summary>A problem with a status and a detail and no field list.</summary>
     public static ProblemHttpResult Status(int status, string title, string? detail = null) =>
         TypedResults.Problem(new ProblemDetails { Status = status, Title = title, Detail = detail });

@@ -19,13 +19,16 @@ public sealed class RequestBodyTooLargeException(long limit)
 public sealed class RequestBodyLimitMiddleware(RequestDelegate next, IOptions<CalBudgetOptions> options)
 {
     private readonly long _limit = options.Value.MaxRequestBodyBytes;
+    private readonly long _uploadLimit = Math.Max(options.Value.MaxReadingsUploadBytes, options.Value.MaxRequestBodyBytes);
 
     /// <summary>Runs the check.</summary>
     public async Task InvokeAsync(HttpContext context)
     {
-        if (context.Request.ContentLength is long length && length > _limit)
+        // Routing has run: an endpoint that takes uploads of readings has the larger limit.
+        long limit = context.GetEndpoint()?.Metadata.GetMetadata<Calibrations.LargeUploadMetadata>() is null ? _limit : _uploadLimit;
+        if (context.Request.ContentLength is long length && length > limit)
         {
-            throw new RequestBodyTooLargeException(_limit);
+            throw new RequestBodyTooLargeException(limit);
         }
 
         // This stream does the counting, so the server's own limit (which would surface as an I/O error) is lifted.
@@ -35,7 +38,7 @@ public sealed class RequestBodyLimitMiddleware(RequestDelegate next, IOptions<Ca
             feature.MaxRequestBodySize = null;
         }
 
-        context.Request.Body = new LimitedStream(context.Request.Body, _limit);
+        context.Request.Body = new LimitedStream(context.Request.Body, limit);
         await next(context);
     }
 

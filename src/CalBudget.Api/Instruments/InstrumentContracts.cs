@@ -72,6 +72,9 @@ public sealed record StoredPostureDto(string Name, double[] Up);
 /// <param name="CreatedBy">Recorded by.</param>
 /// <param name="UpdatedAt">Last changed at.</param>
 /// <param name="UpdatedBy">Last changed by.</param>
+/// <param name="RecentCalibrations">On reading one instrument: its newest calibration runs (at most 10, newest first; the rest with
+/// GET /api/v1/calibrations?instrumentId=). Null in lists and in the answers to changes.</param>
 public sealed record InstrumentDto(long Id, string AssetNumber, string Customer, string Manufacturer, string Model, string SerialNumber, string Description,
     TimebaseDto Timebase, string BodyFrame, IReadOnlyList<StoredPostureDto> Postures, string Status, DateTimeOffset? RetiredAt, string? RetiredReason,
-    long Version, DateTimeOffset CreatedAt, string CreatedBy, DateTimeOffset UpdatedAt, string UpdatedBy);
+    long Version, DateTimeOffset CreatedAt, string CreatedBy, DateTimeOffset UpdatedAt, string UpdatedBy,
+    IReadOnlyList<CalBudget.Api.Calibrations.CalibrationRunDto>? RecentCalibrations = null);

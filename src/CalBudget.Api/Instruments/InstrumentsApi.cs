@@ -1,9 +1,11 @@
 using System.Text.Json;
 using CalBudget.Api.Analytics;
 using CalBudget.Api.Auth;
+using CalBudget.Api.Calibrations;
 using CalBudget.Api.Hosting;
 using CalBudget.Api.References;
 using CalBudget.Data;
+using CalBudget.Data.Calibrations;
 using CalBudget.Data.Instruments;
 using Microsoft.AspNetCore.Http.HttpResults;
 using Microsoft.AspNetCore.Http.Json;
@@ -20,6 +22,7 @@ public static class InstrumentsApi
 
     private const string CreateOperation = "instruments.create";
     private const string Noun = "instrument";
+    private const int RecentRuns = 10;
 
     /// <summary>Maps the routes.</summary>
     public static IEndpointRouteBuilder MapInstrumentsApi(this IEndpointRouteBuilder routes)
@@ -28,7 +31,7 @@ public static class InstrumentsApi
         read.MapGet("/", List).WithName("ListInstruments").WithSummary("List instruments, in id order, a page at a time")
             .WithDescription("Filters: customer (exact), kind (oscillator kind), text (in asset number, manufacturer, model, serial number, description), includeRetired. limit 1 to 200 (default 50); nextCursor is passed back as cursor.")
             .ProducesValidationProblem(StatusCodes.Status400BadRequest);
-        read.MapGet("/{id:long}", Get).WithName("GetInstrument").WithSummary("Read an instrument (ETag: its version)")
+        read.MapGet("/{id:long}", Get).WithName("GetInstrument").WithSummary("Read an instrument with its newest calibration runs (ETag: its version)")
             .ProducesProblem(StatusCodes.Status404NotFound);
 
         var write = routes.MapGroup("/api/v1/instruments").WithTags("Instruments").RequireAuthorization(Policies.Writer);
@@ -72,9 +75,11 @@ public static class InstrumentsApi
     }
 
     /// <summary>GET /api/v1/instruments/{id}.</summary>
-    public static async Task<Results<Ok<InstrumentDto>, ProblemHttpResult>> Get(long id, InstrumentStore store, IOptions<JsonOptions> json, HttpResponse response, CancellationToken ct)
+    public static async Task<Results<Ok<InstrumentDto>, ProblemHttpResult>> Get(long id, InstrumentStore store, CalibrationRunStore runs, IOptions<JsonOptions> json,
+        HttpResponse response, CancellationToken ct)
     {
         ArgumentNullException.ThrowIfNull(store);
+        ArgumentNullException.ThrowIfNull(runs);
         ArgumentNullException.ThrowIfNull(response);
         var r = await store.GetAsync(id, ct);
         if (r is null)
@@ -82,8 +87,9 @@ public static class InstrumentsApi
             return Problems.Status(StatusCodes.Status404NotFound, "No such instrument.", $"No instrument has the id {id}.");
         }
 
+        var recent = await runs.RecentAsync(id, RecentRuns, ct);
         response.Headers.ETag = Conventions.ETag(r.Version);
-        return TypedResults.Ok(ToDto(r, json));
+        return TypedResults.Ok(ToDto(r, json) with { RecentCalibrations = recent.Select(CalibrationsApi.ToDto).ToArray() });
     }
 
     /// <summary>POST /api/v1/instruments.</summary>
@@ -155,31 +161,11 @@ public static class InstrumentsApi
     }
 
     /// <summary>POST /api/v1/instruments/{id}/retire.</summary>
-    public static async Task<Results<Ok<InstrumentDto>, ProblemHttpResult>> Retire(long id, RetireRequest request, HttpContext http,
+    public static Task<Results<Ok<InstrumentDto>, ProblemHttpResult>> Retire(long id, RetireRequest request, HttpContext http,
         IDbConnectionFactory database, TimeProvider time, IOptions<JsonOptions> json, CancellationToken ct)
     {
         ArgumentNullException.ThrowIfNull(request);
-        ArgumentNullException.ThrowIfNull(http);
-        ArgumentNullException.ThrowIfNull(time);
-        var errors = new FieldErrors();
-        string? reason = errors.Text(request.Reason, "reason", 1000);
-        if (reason is null)
-        {
-            return Problems.Invalid(errors.ToDictionary());
-        }
-
-        await using var work = await UnitOfWork.BeginAsync(database, ct);
-        var current = await InstrumentStore.GetAsync(work, id);
-        if (ChangeCheck.Refusal(current, http.Request, Noun, id) is { } refused)
-        {
-            return refused;
-        }
-
-        await InstrumentStore.RetireAsync(work, id, current!.Version, reason, Conventions.Actor(http.User), time.GetUtcNow());
-        var retired = (await InstrumentStore.GetAsync(work, id))!;
-        await work.CommitAsync(ct);
-        http.Response.Headers.ETag = Conventions.ETag(retired.Version);
-        return TypedResults.Ok(ToDto(retired, json));
+        return ChangeCheck.RetireAsync(id, request.Reason, http, database, time, Noun, InstrumentStore.GetAsync, InstrumentStore.RetireAsync, (r, _) => ToDto(r, json), ct);
     }
 
     private static InstrumentFields? Map(InstrumentRequest? r, FieldErrors errors, IOptions<JsonOptions> json)

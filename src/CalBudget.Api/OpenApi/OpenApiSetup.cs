@@ -39,6 +39,29 @@ public static class OpenApiSetup
                 };
                 return Task.CompletedTask;
             });
+            options.AddOperationTransformer((operation, _, _) =>
+            {
+                // CSV bodies are text, whatever the JSON schema of the same operation's other media type
+                var csv = new List<OpenApiMediaType>();
+                if (operation.RequestBody?.Content?.TryGetValue("text/csv", out var body) == true)
+                {
+                    csv.Add(body);
+                }
+
+                foreach (var response in operation.Responses?.Values.AsEnumerable() ?? [])
+                {
+                    if (response.Content is { } content && content.TryGetValue("text/csv", out var text))
+                    {
+                        csv.Add(text);
+                    }
+                }
+                foreach (var media in csv)
+                {
+                    media.Schema = new OpenApiSchema { Type = JsonSchemaType.String, Description = "CSV (UTF-8) with a header row; see the operation's description." };
+                }
+
+                return Task.CompletedTask;
+            });
             options.AddOperationTransformer((operation, context, _) =>
             {
                 var metadata = context.Description.ActionDescriptor.EndpointMetadata;

@@ -161,32 +161,11 @@ public static class ReferencesApi
     }
 
     /// <summary>POST /api/v1/references/{id}/retire.</summary>
-    public static async Task<Results<Ok<ReferenceStandardDto>, ProblemHttpResult>> Retire(long id, RetireRequest request, HttpContext http,
+    public static Task<Results<Ok<ReferenceStandardDto>, ProblemHttpResult>> Retire(long id, RetireRequest request, HttpContext http,
         IDbConnectionFactory database, TimeProvider time, CancellationToken ct)
     {
         ArgumentNullException.ThrowIfNull(request);
-        ArgumentNullException.ThrowIfNull(http);
-        ArgumentNullException.ThrowIfNull(time);
-        var errors = new FieldErrors();
-        string? reason = errors.Text(request.Reason, "reason", 1000);
-        if (reason is null)
-        {
-            return Problems.Invalid(errors.ToDictionary());
-        }
-
-        await using var work = await UnitOfWork.BeginAsync(database, ct);
-        var current = await ReferenceStandardStore.GetAsync(work, id);
-        if (ChangeCheck.Refusal(current, http.Request, Noun, id) is { } refused)
-        {
-            return refused;
-        }
-
-        var now = time.GetUtcNow();
-        await ReferenceStandardStore.RetireAsync(work, id, current!.Version, reason, Conventions.Actor(http.User), now);
-        var retired = (await ReferenceStandardStore.GetAsync(work, id))!;
-        await work.CommitAsync(ct);
-        http.Response.Headers.ETag = Conventions.ETag(retired.Version);
-        return TypedResults.Ok(ToDto(retired, now));
+        return ChangeCheck.RetireAsync(id, request.Reason, http, database, time, Noun, ReferenceStandardStore.GetAsync, ReferenceStandardStore.RetireAsync, ToDto, ct);
     }
 
     private static ProblemHttpResult NotFound(long id) =>

@@ -1,0 +1,53 @@
+using System.Net;
+using System.Text.Json.Nodes;
+
+namespace CalBudget.Api.Tests;
+
+/// <summary>Invented records the calibration tests build on (demo-style data, not check values).</summary>
+internal static class LabRecords
+{
+    public static async Task<long> InstrumentAsync(HttpClient client, string asset = "CB-0042", double nominalHz = 10e6)
+    {
+        string body = $$"""
+        { "assetNumber": "{{asset}}", "customer": "Northfield Avionics", "manufacturer": "Quillon Instruments", "model": "FC-900",
+          "timebase": { "oscillatorKind": "OCXO", "nominalFrequencyHz": {{nominalHz}} },
+          "postures": [ { "name": "standing on its feet", "up": "+z" }, { "name": "on its left side", "up": "-x" } ] }
+        """;
+        var node = await Json.PostAsync(client, "/api/v1/instruments", body, HttpStatusCode.Created);
+        return node["id"]!.GetValue<long>();
+    }
+
+    /// <summary>A reference standard falling due <paramref name="dueInDays"/> from now (negative: overdue).</summary>
+    public static async Task<long> ReferenceAsync(HttpClient client, string identity = "RB-01", int dueInDays = 300)
+    {
+        string body = $$"""
+        { "identity": "{{identity}}", "kind": "rubidium", "nominalFrequencyHz": 10000000,
+          "calibration": { "certificateNumber": "TL-2026-0417", "issuingLab": "Regional time laboratory", "date": "{{DateTimeOffset.UtcNow.AddDays(dueInDays - 400):O}}",
+                           "fractionalOffset": 1.5e-12, "expandedUncertainty": 2e-12, "coverageFactor": 2 },
+          "dueDate": "{{DateTimeOffset.UtcNow.AddDays(dueInDays):O}}" }
+        """;
+        var node = await Json.PostAsync(client, "/api/v1/references", body, HttpStatusCode.Created);
+        return node["id"]!.GetValue<long>();
+    }
+
+    public static string RunBody(long instrumentId, long referenceId, string posture = """{ "name": "standing on its feet" }""", string condition = "as-found",
+        double gate = 1, string extra = "") => $$"""
+        { "instrumentId": {{instrumentId}}, "referenceId": {{referenceId}},
+          "comparator": { "name": "lab counter C-3", "resolution": 1e-12 }, "gateTimeSeconds": {{gate}},
+          "posture": {{posture}},
+          "environment": { "temperatureCelsius": 23.1, "temperatureVariationKelvin": 0.4, "relativeHumidityPercent": 41, "supply": "230 V 50 Hz" },
+          "condition": "{{condition}}", "startedAt": "2026-11-30T09:00:00Z", "endedAt": "2026-11-30T09:10:00Z", "notes": "bench 2\nwarm-up 30 min"{{extra}} }
+        """;
+
+    /// <summary>An instrument, a usable reference and a run on them; the run's id.</summary>
+    public static async Task<long> RunAsync(HttpClient client, string asset = "CB-0042")
+    {
+        long instrument = await InstrumentAsync(client, asset);
+        long reference = await ReferenceAsync(client, "RB-" + asset);
+        var run = await Json.PostAsync(client, "/api/v1/calibrations", RunBody(instrument, reference), HttpStatusCode.Created);
+        return run["id"]!.GetValue<long>();
+    }
+
+    public static JsonNode? Field(JsonNode node, string path) =>
+        path.Split('.').Aggregate<string, JsonNode?>(node, (n, key) => n?[key]);
+}
