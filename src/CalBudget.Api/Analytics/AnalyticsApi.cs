@@ -1,8 +1,11 @@
+using System.Text.Json;
 using CalBudget.Api.Auth;
 using CalBudget.Api.Hosting;
 using CalBudget.Core;
 using CalBudget.Core.Stability;
 using Microsoft.AspNetCore.Http.HttpResults;
+using Microsoft.AspNetCore.Http.Json;
+using Microsoft.Extensions.Options;
 
 namespace CalBudget.Api.Analytics;
 
@@ -40,10 +43,55 @@ public static class AnalyticsApi
         return routes;
     }
 
-    /// <summary>POST /api/v1/stability.</summary>
-    public static Results<Ok<StabilityResponse>, ProblemHttpResult> Stability(StabilityRequest request)
+    /// <summary>POST /api/v1/stability: the body is buffered and read by <see cref="StabilityBody"/>.</summary>
+    public static async Task<Results<Ok<StabilityResponse>, ProblemHttpResult>> Stability(HttpRequest http, IOptions<JsonOptions> json, CancellationToken ct)
     {
-        ArgumentNullException.ThrowIfNull(request);
+        ArgumentNullException.ThrowIfNull(http);
+        ArgumentNullException.ThrowIfNull(json);
+        if (!http.HasJsonContentType())
+        {
+            throw new BadHttpRequestException("The request body must be application/json.", StatusCodes.Status415UnsupportedMediaType);
+        }
+
+        var body = await ReadBodyAsync(http, ct);
+        try
+        {
+            var (request, values) = StabilityBody.Read(body, json.Value.SerializerOptions);
+            return Evaluate(request, values);
+        }
+        catch (JsonException ex)
+        {
+            throw new BadHttpRequestException("The request body is not valid JSON for this operation.", StatusCodes.Status400BadRequest, ex);
+        }
+    }
+
+    private static async Task<ReadOnlyMemory<byte>> ReadBodyAsync(HttpRequest http, CancellationToken ct)
+    {
+        if (http.ContentLength is long length && length <= int.MaxValue)
+        {
+            byte[] exact = new byte[length];
+            int read = 0;
+            while (read < exact.Length)
+            {
+                int n = await http.Body.ReadAsync(exact.AsMemory(read), ct);
+                if (n == 0)
+                {
+                    break;
+                }
+
+                read += n;
+            }
+
+            return exact.AsMemory(0, read);
+        }
+
+        using var buffer = new MemoryStream();
+        await http.Body.CopyToAsync(buffer, ct);
+        return buffer.GetBuffer().AsMemory(0, (int)buffer.Length);
+    }
+
+    private static Results<Ok<StabilityResponse>, ProblemHttpResult> Evaluate(StabilityRequest request, double[]? readings)
+    {
         var errors = new FieldErrors();
         StabilityDataType? type = request.DataType switch
         {
@@ -58,11 +106,11 @@ public static class AnalyticsApi
         }
 
         double? tau0 = errors.Positive(request.Tau0, "tau0");
-        if (request.Values is null || request.Values.Length == 0)
+        if (readings is null || readings.Length == 0)
         {
             errors.Add("values", "At least one reading is required.");
         }
-        else if (request.Values.Length > MaxValues)
+        else if (readings.Length > MaxValues)
         {
             errors.Add("values", $"At most {MaxValues} readings.");
         }
@@ -100,15 +148,9 @@ public static class AnalyticsApi
             return Problems.Invalid(errors.ToDictionary());
         }
 
-        var values = new double[request.Values!.Length];
-        for (int i = 0; i < values.Length; i++)
-        {
-            values[i] = request.Values[i] ?? double.NaN;
-        }
-
         try
         {
-            var result = StabilityAnalysis.Analyse(values, type.Value, tau0.Value, statistics, request.AveragingFactors?.ToArray());
+            var result = StabilityAnalysis.Analyse(readings!, type.Value, tau0.Value, statistics, request.AveragingFactors?.ToArray());
             return TypedResults.Ok(new StabilityResponse(
                 result.Results.ToDictionary(r => r.Key.ToString().ToLowerInvariant(), r => r.Value.Select(p =>
                     new StabilityPointDto(p.AveragingFactor, p.Tau, p.Deviation, p.Count, p.DegreesOfFreedom, [p.Interval.Low, p.Interval.High])).ToArray()),

@@ -203,12 +203,19 @@ public static class ReadingsApi
     }
 
     /// <summary>GET /api/v1/calibrations/{id}/readings/uploads/{uploadId}.</summary>
-    public static async Task<Results<Ok<ReadingUploadDto>, ProblemHttpResult>> GetUpload(long id, long uploadId, ReadingStore readings, CancellationToken ct)
+    public static async Task<Results<Ok<ReadingUploadDto>, ProblemHttpResult>> GetUpload(long id, long uploadId, ReadingStore readings, HttpResponse response,
+        CancellationToken ct)
     {
         ArgumentNullException.ThrowIfNull(readings);
-        return await readings.UploadAsync(id, uploadId, ct) is { } upload
-            ? TypedResults.Ok(ToDto(upload))
-            : Problems.Status(StatusCodes.Status404NotFound, "No such upload.", $"Calibration run {id} has no upload with the id {uploadId}.");
+        ArgumentNullException.ThrowIfNull(response);
+        if (await readings.UploadAsync(id, uploadId, ct) is not { } upload)
+        {
+            return Problems.Status(StatusCodes.Status404NotFound, "No such upload.", $"Calibration run {id} has no upload with the id {uploadId}.");
+        }
+
+        // an upload never changes: its ETag is its id
+        response.Headers.ETag = $"\"upload-{upload.Id}\"";
+        return TypedResults.Ok(ToDto(upload));
     }
 
     /// <summary>GET /api/v1/calibrations/{id}/readings/uploads/{uploadId}/content.</summary>
