@@ -1,4 +1,5 @@
 using CalBudget.Api.Analytics;
+using CalBudget.Api.Audit;
 using CalBudget.Api.Budgets;
 using CalBudget.Api.Calibrations;
 using CalBudget.Api.Cli;
@@ -29,6 +30,9 @@ app.MapReferencesApi();
 app.MapInstrumentsApi();
 app.MapCalibrationsApi();
 app.MapReadingsApi();
+app.MapAuditApi();
+app.MapStoredBudgetsApi();
+app.MapSensitivityTestsApi();
 
 await app.Services.InitialiseDatabaseAsync(seedDemoData: app.Environment.IsDevelopment());
 await app.RunAsync();

@@ -16,7 +16,8 @@ public sealed class RoleMatrixTests : IClassFixture<RoleMatrixTests.Service>
     private static readonly string[] Everyone = [T, A, U, I, D];
     private static readonly string[] Writers = [T, I];
     private static readonly string[] Admins = [D];
-    private static readonly string[] Anonymous = [];
+    private static readonly string[] Approvers = [A];
+    private static readonly string[] AuditReaders = [U, D];
 
     private readonly Service _service;
 
@@ -55,6 +56,19 @@ public sealed class RoleMatrixTests : IClassFixture<RoleMatrixTests.Service>
         ("GET", "/api/v1/calibrations/{id:long}/readings/uploads", "/api/v1/calibrations/999/readings/uploads", null, Everyone),
         ("GET", "/api/v1/calibrations/{id:long}/readings/uploads/{uploadId:long}", "/api/v1/calibrations/999/readings/uploads/1", null, Everyone),
         ("GET", "/api/v1/calibrations/{id:long}/readings/uploads/{uploadId:long}/content", "/api/v1/calibrations/999/readings/uploads/1/content", null, Everyone),
+        ("GET", "/api/v1/instruments/{id:long}/sensitivity-tests", "/api/v1/instruments/999/sensitivity-tests", null, Everyone),
+        ("POST", "/api/v1/instruments/{id:long}/sensitivity-tests", "/api/v1/instruments/999/sensitivity-tests", "{}", Writers),
+        ("GET", "/api/v1/templates", "/api/v1/templates", null, Everyone),
+        ("GET", "/api/v1/budgets", "/api/v1/budgets", null, Everyone),
+        ("GET", "/api/v1/budgets/{id:long}", "/api/v1/budgets/999", null, Everyone),
+        ("GET", "/api/v1/budgets/{id:long}/versions", "/api/v1/budgets/999/versions", null, Everyone),
+        ("GET", "/api/v1/budgets/{id:long}/versions/{number:int}", "/api/v1/budgets/999/versions/1", null, Everyone),
+        ("GET", "/api/v1/budgets/{id:long}/diff", "/api/v1/budgets/999/diff?from=1&to=2", null, Everyone),
+        ("POST", "/api/v1/budgets", "/api/v1/budgets", "{}", Writers),
+        ("POST", "/api/v1/budgets/{id:long}/versions", "/api/v1/budgets/999/versions", "{}", Writers),
+        ("POST", "/api/v1/budgets/{id:long}/versions/{number:int}/approve", "/api/v1/budgets/999/versions/1/approve", "{}", Approvers),
+        ("GET", "/api/v1/audit", "/api/v1/audit", null, AuditReaders),
+        ("GET", "/api/v1/audit/verify", "/api/v1/audit/verify", null, AuditReaders),
     ];
 
     public static TheoryData<string, string> Routes()

@@ -39,9 +39,9 @@ public class ServiceFactory : WebApplicationFactory<Program>
     public ApiKeyStore Keys => Services.GetRequiredService<ApiKeyStore>();
 
     /// <summary>A client whose requests carry a new key with <paramref name="role"/>.</summary>
-    public async Task<HttpClient> ClientAsync(string role)
+    public async Task<HttpClient> ClientAsync(string role, string? holder = null)
     {
-        string key = await Keys.CreateAsync($"{role}-{Guid.NewGuid():N}", role);
+        string key = await Keys.CreateAsync($"{role}-{Guid.NewGuid():N}", role, holder: holder);
         return ClientWithKey(key);
     }
 

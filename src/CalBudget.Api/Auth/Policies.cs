@@ -17,11 +17,19 @@ public static class Policies
     /// <summary>Those who create and edit records: technicians and integrations.</summary>
     public const string Writer = "writer";
 
+    /// <summary>Those who read the audit trail: auditors and administrators.</summary>
+    public const string AuditReader = "audit-reader";
+
+    /// <summary>Those who approve budgets.</summary>
+    public const string Approver = "approver";
+
     private static readonly Dictionary<string, string[]> Definitions = new(StringComparer.Ordinal)
     {
         [AnyRole] = [.. Roles.All],
         [Admin] = [Roles.Admin],
         [Writer] = [Roles.Technician, Roles.Integration],
+        [AuditReader] = [Roles.Auditor, Roles.Admin],
+        [Approver] = [Roles.Approver],
     };
 
     /// <summary>Every policy name with its roles.</summary>

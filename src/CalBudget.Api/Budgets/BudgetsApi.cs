@@ -43,6 +43,17 @@ public static class BudgetsApi
     {
         ArgumentNullException.ThrowIfNull(request);
         ArgumentNullException.ThrowIfNull(options);
+        var (response, problem) = Compute(request, options.Value.MonteCarloMaxTrials);
+        return response is not null ? TypedResults.Ok(response) : problem!;
+    }
+
+    /// <summary>
+    /// The evaluation behind POST /api/v1/budgets/evaluate, also used for stored budgets: the answer, or the problem. A
+    /// Monte Carlo request without a seed gets a random one, returned in the answer.
+    /// </summary>
+    public static (EvaluateResponse? Response, ProblemHttpResult? Problem) Compute(EvaluateRequest request, long maxTrials)
+    {
+        ArgumentNullException.ThrowIfNull(request);
         try
         {
             var errors = new FieldErrors();
@@ -54,7 +65,7 @@ public static class BudgetsApi
 
             if (budget is null || !errors.IsEmpty)
             {
-                return Problems.Invalid(errors.ToDictionary());
+                return (null, Problems.Invalid(errors.ToDictionary()));
             }
 
             var gum = budget.Evaluate();
@@ -65,16 +76,16 @@ public static class BudgetsApi
                 {
                     Trials = settings.Trials,
                     Seed = settings.Seed ?? BitConverter.ToUInt64(RandomNumberGenerator.GetBytes(8)),
-                    MaxTrials = options.Value.MonteCarloMaxTrials,
+                    MaxTrials = maxTrials,
                 };
                 mc = MonteCarloEngine.Run(budget, mcOptions, gum);
             }
 
-            return TypedResults.Ok(ToResponse(budget, gum, mc));
+            return (ToResponse(budget, gum, mc), null);
         }
         catch (MetrologyException ex)
         {
-            return Problems.FromMetrology(ex);
+            return (null, Problems.FromMetrology(ex));
         }
     }
 

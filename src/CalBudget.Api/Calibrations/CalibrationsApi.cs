@@ -19,6 +19,7 @@ public static class CalibrationsApi
 {
     private const string CreateOperation = "calibrations.create";
     private const string Noun = "calibration run";
+    private const string Entity = "calibration";
 
     /// <summary>Maps the routes.</summary>
     public static IEndpointRouteBuilder MapCalibrationsApi(this IEndpointRouteBuilder routes)
@@ -119,6 +120,7 @@ public static class CalibrationsApi
         var dto = ToDto(created);
         string location = $"/api/v1/calibrations/{created.Id}";
         await IdempotentCreate.RecordAsync(work, http, idempotencyKey, CreateOperation, hash, location, dto, json, now);
+        await AuditTrail.RecordAsync(work, http, now, "create", Entity, created.Id, null, dto);
         await work.CommitAsync(ct);
         http.Response.Headers.ETag = Conventions.ETag(created.Version);
         return TypedResults.Created(location, dto);
@@ -160,9 +162,11 @@ public static class CalibrationsApi
 
         await CalibrationRunStore.UpdateAsync(work, id, current.Version, resolved.Fields!, Conventions.Actor(http.User), now);
         var updated = (await CalibrationRunStore.GetAsync(work, id))!;
+        var dto = ToDto(updated);
+        await AuditTrail.RecordAsync(work, http, now, "update", Entity, id, null, dto);
         await work.CommitAsync(ct);
         http.Response.Headers.ETag = Conventions.ETag(updated.Version);
-        return TypedResults.Ok(ToDto(updated));
+        return TypedResults.Ok(dto);
     }
 
     /// <summary>POST /api/v1/calibrations/{id}/retire.</summary>
@@ -170,7 +174,7 @@ public static class CalibrationsApi
         IDbConnectionFactory database, TimeProvider time, CancellationToken ct)
     {
         ArgumentNullException.ThrowIfNull(request);
-        return ChangeCheck.RetireAsync(id, request.Reason, http, database, time, Noun, CalibrationRunStore.GetAsync, CalibrationRunStore.RetireAsync, (r, _) => ToDto(r), ct);
+        return ChangeCheck.RetireAsync(id, request.Reason, http, database, time, Noun, Entity, CalibrationRunStore.GetAsync, CalibrationRunStore.RetireAsync, (r, _) => ToDto(r), ct);
     }
 
     /// <summary>The answer shape of a run.</summary>

@@ -153,6 +153,7 @@ public static class ReadingsApi
         var dto = ToDto(upload);
         string location = $"/api/v1/calibrations/{id}/readings/uploads/{upload.Id}";
         await IdempotentCreate.RecordAsync(work, http, idempotencyKey, UploadOperation, requestHash, location, dto, json, now);
+        await AuditTrail.RecordAsync(work, http, now, latest is null ? "upload" : "correct", "readings", upload.Id, why, dto);
         await work.CommitAsync(ct);
         return TypedResults.Created(location, dto);
     }

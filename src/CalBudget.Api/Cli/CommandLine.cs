@@ -37,7 +37,7 @@ public static class CommandLine
             switch (positional)
             {
                 case ["create"] when named.TryGetValue("role", out var role) && named.TryGetValue("name", out var name):
-                    string key = await store.CreateAsync(name, role);
+                    string key = await store.CreateAsync(name, role, holder: named.GetValueOrDefault("holder"));
                     await stdout.WriteLineAsync($"Created key '{name}' with the role {role} in {database.FilePath}.");
                     await stdout.WriteLineAsync("Store it now: it is shown once and cannot be recovered.");
                     await stdout.WriteLineAsync(key);
@@ -56,7 +56,7 @@ public static class CommandLine
                     await stdout.WriteLineAsync($"Revoked key '{revoked}'.");
                     return 0;
                 default:
-                    await stderr.WriteLineAsync("usage: keys create --role <technician|approver|auditor|integration|admin> --name <label>");
+                    await stderr.WriteLineAsync("usage: keys create --role <technician|approver|auditor|integration|admin> --name <label> [--holder <person>]");
                     await stderr.WriteLineAsync("       keys list");
                     await stderr.WriteLineAsync("       keys revoke <name>");
                     return 2;
@@ -77,7 +77,7 @@ public static class CommandLine
         var rest = new List<string>();
         for (int i = 0; i < args.Length; i++)
         {
-            if (args[i] is "--role" or "--name" && i + 1 < args.Length)
+            if (args[i] is "--role" or "--name" or "--holder" && i + 1 < args.Length)
             {
                 named[args[i][2..]] = args[++i];
             }

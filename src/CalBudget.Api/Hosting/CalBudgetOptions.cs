@@ -12,6 +12,9 @@ public sealed class CalBudgetOptions
     /// <summary>Where the database file lives; relative paths are taken from the working directory. Created on start.</summary>
     public string DataDirectory { get; set; } = "./data";
 
+    /// <summary>The folder of the budget templates (one JSON file each); relative paths from the service's own folder.</summary>
+    public string TemplatesDirectory { get; set; } = "templates";
+
     /// <summary>The largest request body accepted, in bytes (413 beyond it).</summary>
     public long MaxRequestBodyBytes { get; set; } = 32L * 1024 * 1024;
 

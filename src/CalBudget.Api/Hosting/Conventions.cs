@@ -123,6 +123,16 @@ public static class Conventions
         return SHA256.HashData(JsonSerializer.SerializeToUtf8Bytes(request, json.Value.SerializerOptions));
     }
 
+    /// <summary>The claim naming the person behind a key.</summary>
+    public const string HolderClaim = "holder";
+
+    /// <summary>The person asking: the key's holder (one person may hold several keys), else its name.</summary>
+    public static string Person(ClaimsPrincipal user)
+    {
+        ArgumentNullException.ThrowIfNull(user);
+        return user.FindFirst(HolderClaim)?.Value ?? Actor(user);
+    }
+
     /// <summary>Who is asking: the key's (or user's) name.</summary>
     public static string Actor(ClaimsPrincipal user)
     {

@@ -24,6 +24,7 @@ public static class DatabaseStartup
     public static async Task InitialiseDatabaseAsync(this IServiceProvider services, bool seedDemoData, CancellationToken ct = default)
     {
         ArgumentNullException.ThrowIfNull(services);
+        _ = services.GetRequiredService<Budgets.TemplateCatalog>(); // a malformed template stops the start here, naming its file and field
         var database = services.GetRequiredService<SqliteDatabase>();
         var log = services.GetRequiredService<ILoggerFactory>().CreateLogger("CalBudget.Database");
         var result = await Migrator.MigrateAsync(database, message => Log.Migration(log, message), ct);

@@ -47,7 +47,7 @@ public static class DemoData
         {
             var (asset, customer, maker, model, kind, tolerance, gamma) = Instruments[index];
             var spec = new TimebaseSpecificationDto(new ToleranceDto(-tolerance, tolerance, "one year after calibration, 23 +/- 5 degC"),
-                kind is "XO" or "TCXO" ? 1e-9 : 5e-10, null, kind == "XO" ? 1e-8 : 1e-10, new RangeDto(0, 50), gamma, kind is "rubidium" or "OCXO" ? 30 : 5, null);
+                kind is "XO" or "TCXO" ? 1e-9 : 5e-10, null, kind == "XO" ? 1e-8 : 1e-10, new RangeDto(0, 50), gamma, kind is "rubidium" or "OCXO" ? 30 : 5, kind switch { "OCXO" => 5e-9, "rubidium" => 5e-11, _ => null });
             NamedPosture[] postures =
             [
                 new("standing on its feet", 0, 0, 1),

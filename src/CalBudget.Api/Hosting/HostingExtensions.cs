@@ -60,6 +60,12 @@ public static class HostingExtensions
         builder.Services.AddSingleton<CalBudget.Data.Instruments.InstrumentStore>();
         builder.Services.AddSingleton<CalBudget.Data.Calibrations.CalibrationRunStore>();
         builder.Services.AddSingleton<CalBudget.Data.Calibrations.ReadingStore>();
+        builder.Services.AddSingleton<CalBudget.Data.Audit.AuditLog>();
+        builder.Services.AddSingleton<CalBudget.Data.Budgets.BudgetStore>();
+        builder.Services.AddSingleton<CalBudget.Data.Instruments.SensitivityTestStore>();
+        // the templates are read (and checked) once; a malformed file stops the service at start, naming the file and field
+        builder.Services.AddSingleton(sp => Budgets.TemplateCatalog.Load(Path.Combine(AppContext.BaseDirectory,
+            sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value.TemplatesDirectory)));
         builder.Services.AddSingleton(sp => new ApiKeyStore(sp.GetRequiredService<IDbConnectionFactory>(), sp.GetRequiredService<TimeProvider>())
         {
             CacheLifetime = sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value.KeyCacheLifetime,

@@ -74,7 +74,7 @@ public static class ChangeCheck
     /// retirement in one unit of work, and the retired record with its new ETag.
     /// </summary>
     public static async Task<Results<Ok<TDto>, ProblemHttpResult>> RetireAsync<TRecord, TDto>(long id, string? reason, HttpContext http,
-        IDbConnectionFactory database, TimeProvider time, string what, Func<UnitOfWork, long, Task<TRecord?>> read,
+        IDbConnectionFactory database, TimeProvider time, string what, string entityType, Func<UnitOfWork, long, Task<TRecord?>> read,
         Func<UnitOfWork, long, long, string, string, DateTimeOffset, Task<bool>> retire, Func<TRecord, DateTimeOffset, TDto> answer, CancellationToken ct)
         where TRecord : class, IVersionedRecord
     {
@@ -100,9 +100,11 @@ public static class ChangeCheck
         var now = time.GetUtcNow();
         await retire(work, id, current!.Version, why, Conventions.Actor(http.User), now);
         var retired = (await read(work, id))!;
+        var dto = answer(retired, now);
+        await AuditTrail.RecordAsync(work, http, now, "retire", entityType, id, why, dto);
         await work.CommitAsync(ct);
         http.Response.Headers.ETag = Conventions.ETag(retired.Version);
-        return TypedResults.Ok(answer(retired, now));
+        return TypedResults.Ok(dto);
     }
 
     /// <summary>Null when the change may go ahead; else 404, 428 or 412 (If-Match), or 409 (retired).</summary>

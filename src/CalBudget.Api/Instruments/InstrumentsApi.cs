@@ -22,6 +22,7 @@ public static class InstrumentsApi
 
     private const string CreateOperation = "instruments.create";
     private const string Noun = "instrument";
+    private const string Entity = "instrument";
     private const int RecentRuns = 10;
 
     /// <summary>Maps the routes.</summary>
@@ -123,6 +124,7 @@ public static class InstrumentsApi
         var dto = ToDto(created, json);
         string location = $"/api/v1/instruments/{created.Id}";
         await IdempotentCreate.RecordAsync(work, http, idempotencyKey, CreateOperation, hash, location, dto, json, now);
+        await AuditTrail.RecordAsync(work, http, now, "create", Entity, created.Id, null, dto);
         await work.CommitAsync(ct);
         http.Response.Headers.ETag = Conventions.ETag(created.Version);
         return TypedResults.Created(location, dto);
@@ -153,11 +155,14 @@ public static class InstrumentsApi
             return Problems.Status(StatusCodes.Status409Conflict, "The asset number is taken.", $"Another instrument has the asset number '{fields.AssetNumber}'.");
         }
 
-        await InstrumentStore.UpdateAsync(work, id, current!.Version, fields, Conventions.Actor(http.User), time.GetUtcNow());
+        var now = time.GetUtcNow();
+        await InstrumentStore.UpdateAsync(work, id, current!.Version, fields, Conventions.Actor(http.User), now);
         var updated = (await InstrumentStore.GetAsync(work, id))!;
+        var dto = ToDto(updated, json);
+        await AuditTrail.RecordAsync(work, http, now, "update", Entity, id, null, dto);
         await work.CommitAsync(ct);
         http.Response.Headers.ETag = Conventions.ETag(updated.Version);
-        return TypedResults.Ok(ToDto(updated, json));
+        return TypedResults.Ok(dto);
     }
 
     /// <summary>POST /api/v1/instruments/{id}/retire.</summary>
@@ -165,7 +170,7 @@ public static class InstrumentsApi
         IDbConnectionFactory database, TimeProvider time, IOptions<JsonOptions> json, CancellationToken ct)
     {
         ArgumentNullException.ThrowIfNull(request);
-        return ChangeCheck.RetireAsync(id, request.Reason, http, database, time, Noun, InstrumentStore.GetAsync, InstrumentStore.RetireAsync, (r, _) => ToDto(r, json), ct);
+        return ChangeCheck.RetireAsync(id, request.Reason, http, database, time, Noun, Entity, InstrumentStore.GetAsync, InstrumentStore.RetireAsync, (r, _) => ToDto(r, json), ct);
     }
 
     private static InstrumentFields? Map(InstrumentRequest? r, FieldErrors errors, IOptions<JsonOptions> json)

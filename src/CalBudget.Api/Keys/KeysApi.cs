@@ -1,3 +1,4 @@
+using System.Security.Claims;
 using CalBudget.Api.Auth;
 using CalBudget.Api.Hosting;
 using CalBudget.Data.Keys;
@@ -17,7 +18,8 @@ public sealed record ApiKeyDto(string Name, string Role, string KeyId, DateTimeO
 /// <summary>A key to make.</summary>
 /// <param name="Name">Unique label, 1 to 100 characters.</param>
 /// <param name="Role">technician, approver, auditor, integration or admin.</param>
-public sealed record CreateKeyRequest(string? Name, string? Role);
+/// <param name="Holder">The person who holds it, when one person holds several keys (default: the name); budget approval compares holders.</param>
+public sealed record CreateKeyRequest(string? Name, string? Role, string? Holder = null);
 
 /// <summary>A new key: the only time its value is shown.</summary>
 /// <param name="Name">Label.</param>
@@ -51,7 +53,7 @@ public static class KeysApi
     }
 
     /// <summary>POST /api/v1/keys.</summary>
-    public static async Task<Results<Created<CreatedKeyDto>, ProblemHttpResult>> Create(CreateKeyRequest request, ApiKeyStore store, CancellationToken ct)
+    public static async Task<Results<Created<CreatedKeyDto>, ProblemHttpResult>> Create(CreateKeyRequest request, ApiKeyStore store, ClaimsPrincipal user, CancellationToken ct)
     {
         ArgumentNullException.ThrowIfNull(request);
         ArgumentNullException.ThrowIfNull(store);
@@ -69,7 +71,7 @@ public static class KeysApi
 
         try
         {
-            string key = await store.CreateAsync(name, request.Role!, ct);
+            string key = await store.CreateAsync(name, request.Role!, Conventions.Actor(user), request.Holder, ct);
             return TypedResults.Created($"/api/v1/keys/{Uri.EscapeDataString(name)}", new CreatedKeyDto(name, request.Role!, key));
         }
         catch (ApiKeyException ex)
@@ -81,12 +83,13 @@ public static class KeysApi
     }
 
     /// <summary>POST /api/v1/keys/{name}/revoke.</summary>
-    public static async Task<Results<NoContent, ProblemHttpResult>> Revoke(string name, ApiKeyStore store, CancellationToken ct)
+    public static async Task<Results<NoContent, ProblemHttpResult>> Revoke(string name, ApiKeyStore store, ClaimsPrincipal user, CancellationToken ct)
     {
         ArgumentNullException.ThrowIfNull(store);
+        ArgumentNullException.ThrowIfNull(user);
         try
         {
-            await store.RevokeAsync(name, ct);
+            await store.RevokeAsync(name, Conventions.Actor(user), ct);
             return TypedResults.NoContent();
         }
         catch (ApiKeyException ex)

@@ -17,6 +17,7 @@ public static class ReferencesApi
 
     private const string CreateOperation = "references.create";
     private const string Noun = "reference standard";
+    private const string Entity = "reference";
 
     /// <summary>Maps the routes.</summary>
     public static IEndpointRouteBuilder MapReferencesApi(this IEndpointRouteBuilder routes)
@@ -121,6 +122,7 @@ public static class ReferencesApi
         var dto = ToDto(created, now);
         string location = $"/api/v1/references/{created.Id}";
         await IdempotentCreate.RecordAsync(work, http, idempotencyKey, CreateOperation, hash, location, dto, json, now);
+        await AuditTrail.RecordAsync(work, http, now, "create", Entity, created.Id, null, dto);
 
         await work.CommitAsync(ct);
         http.Response.Headers.ETag = Conventions.ETag(created.Version);
@@ -155,9 +157,11 @@ public static class ReferencesApi
         var now = time.GetUtcNow();
         await ReferenceStandardStore.UpdateAsync(work, id, current!.Version, fields, Conventions.Actor(http.User), now);
         var updated = (await ReferenceStandardStore.GetAsync(work, id))!;
+        var dto = ToDto(updated, now);
+        await AuditTrail.RecordAsync(work, http, now, "update", Entity, id, null, dto);
         await work.CommitAsync(ct);
         http.Response.Headers.ETag = Conventions.ETag(updated.Version);
-        return TypedResults.Ok(ToDto(updated, now));
+        return TypedResults.Ok(dto);
     }
 
     /// <summary>POST /api/v1/references/{id}/retire.</summary>
@@ -165,7 +169,7 @@ public static class ReferencesApi
         IDbConnectionFactory database, TimeProvider time, CancellationToken ct)
     {
         ArgumentNullException.ThrowIfNull(request);
-        return ChangeCheck.RetireAsync(id, request.Reason, http, database, time, Noun, ReferenceStandardStore.GetAsync, ReferenceStandardStore.RetireAsync, ToDto, ct);
+        return ChangeCheck.RetireAsync(id, request.Reason, http, database, time, Noun, Entity, ReferenceStandardStore.GetAsync, ReferenceStandardStore.RetireAsync, ToDto, ct);
     }
 
     private static ProblemHttpResult NotFound(long id) =>

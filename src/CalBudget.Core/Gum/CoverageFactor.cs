@@ -13,6 +13,9 @@ public static class CoverageFactor
     private const int CacheLimit = 4096;
     private static readonly ConcurrentDictionary<(double Nu, double P), double> Cache = new();
 
+    /// <summary>From here on Student's t is taken by its expansion about the normal quantile.</summary>
+    public const double LargeDegreesOfFreedom = 1e6;
+
     /// <summary>
     /// Two-sided coverage factor for <paramref name="coverageProbability"/> in (0, 1) and
     /// <paramref name="degreesOfFreedom"/> &gt; 0 (use <see cref="double.PositiveInfinity"/> for the normal limit).
@@ -26,6 +29,14 @@ public static class CoverageFactor
         if (double.IsPositiveInfinity(degreesOfFreedom))
         {
             return Normal.InvCDF(0, 1, upper);
+        }
+
+        if (degreesOfFreedom >= LargeDegreesOfFreedom)
+        {
+            // Cornish-Fisher: t_p(nu) = z + (z^3 + z) / (4 nu) + O(nu^-2), the next term below 1e-12 here; the root finder
+            // loses its footing where the t CDF is the normal one to double precision
+            double z = Normal.InvCDF(0, 1, upper);
+            return z + (z * z * z + z) / (4 * degreesOfFreedom);
         }
 
         var key = (degreesOfFreedom, coverageProbability);

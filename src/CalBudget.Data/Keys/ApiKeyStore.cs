@@ -16,7 +16,8 @@ public sealed record ApiKeyInfo(string Name, string Role, string KeyId, DateTime
 /// <summary>Who a valid key belongs to.</summary>
 /// <param name="Name">The key's label, used as the actor.</param>
 /// <param name="Role">Its role.</param>
-public sealed record ApiKeyIdentity(string Name, string Role);
+/// <param name="Holder">The person who holds it (several keys may share one).</param>
+public sealed record ApiKeyIdentity(string Name, string Role, string Holder);
 
 /// <summary>Why a key operation was refused.</summary>
 public enum ApiKeyProblem
@@ -57,11 +58,11 @@ public sealed class ApiKeyStore(IDbConnectionFactory database, TimeProvider time
     public TimeSpan CacheLifetime { get; init; } = TimeSpan.FromSeconds(5);
 
     /// <summary>Makes a new key for <paramref name="role"/> and returns it; it is shown this once and never stored.</summary>
-    public async Task<string> CreateAsync(string name, string role, CancellationToken ct = default)
+    public async Task<string> CreateAsync(string name, string role, string actor = CommandLineActor, string? holder = null, CancellationToken ct = default)
     {
         string keyId = Convert.ToHexStringLower(RandomNumberGenerator.GetBytes(KeyIdLength / 2));
         string secret = Base64Url(RandomNumberGenerator.GetBytes(32));
-        await InsertAsync(name, role, keyId, secret, isDemo: false, ct).ConfigureAwait(false);
+        await InsertAsync(name, role, keyId, secret, isDemo: false, actor, ct, holder).ConfigureAwait(false);
         return Prefix + keyId + "_" + secret;
     }
 
@@ -73,16 +74,25 @@ public sealed class ApiKeyStore(IDbConnectionFactory database, TimeProvider time
             throw new ApiKeyException(ApiKeyProblem.Invalid, "The demo key is not in the key format.");
         }
 
-        return InsertAsync(name, role, keyId, secret, isDemo: true, ct);
+        return InsertAsync(name, role, keyId, secret, isDemo: true, "demo-seed", ct);
     }
 
     private const string InsertSql = """
-        INSERT INTO api_keys (key_id, name, role, salt, secret_hash, is_demo, created_at)
-        VALUES (@keyId, @name, @role, @salt, @hash, @isDemo, @createdAt)
+        INSERT INTO api_keys (key_id, name, role, holder, salt, secret_hash, is_demo, created_at)
+        VALUES (@keyId, @name, @role, @holder, @salt, @hash, @isDemo, @createdAt)
         """;
 
-    private async Task InsertAsync(string name, string role, string keyId, string secret, bool isDemo, CancellationToken ct)
+    /// <summary>The audit trail's actor for changes made with the command line.</summary>
+    public const string CommandLineActor = "command line";
+
+    private async Task InsertAsync(string name, string role, string keyId, string secret, bool isDemo, string actor, CancellationToken ct, string? holder = null)
     {
+        holder = string.IsNullOrWhiteSpace(holder) ? null : holder.Trim();
+        if (holder is { Length: > 100 } || holder?.Any(char.IsControl) == true)
+        {
+            throw new ApiKeyException(ApiKeyProblem.Invalid, "A holder is 1 to 100 printable characters.");
+        }
+
         name = (name ?? "").Trim();
         if (name.Length is 0 or > 100 || name.Any(char.IsControl))
         {
@@ -95,25 +105,31 @@ public sealed class ApiKeyStore(IDbConnectionFactory database, TimeProvider time
         }
 
         byte[] salt = RandomNumberGenerator.GetBytes(16);
-        await using var connection = await database.OpenAsync(ct).ConfigureAwait(false);
-        if (await connection.ExecuteScalarAsync<long>("SELECT count(*) FROM api_keys WHERE name = @name", new { name }).ConfigureAwait(false) > 0)
+        await using var work = await UnitOfWork.BeginAsync(database, ct).ConfigureAwait(false);
+        if (await work.Connection.ExecuteScalarAsync<long>("SELECT count(*) FROM api_keys WHERE name = @name", new { name }, work.Transaction).ConfigureAwait(false) > 0)
         {
             throw new ApiKeyException(ApiKeyProblem.Conflict, $"A key named '{name}' exists already.");
         }
 
-        await connection.ExecuteAsync(new CommandDefinition(InsertSql, new
+        var now = time.GetUtcNow();
+        await work.Connection.ExecuteAsync(new CommandDefinition(InsertSql, new
         {
             keyId,
             name,
             role,
+            holder,
             salt,
             hash = Hash(salt, secret),
             isDemo = isDemo ? 1 : 0,
-            createdAt = Timestamps.Format(time.GetUtcNow()),
-        }, cancellationToken: ct)).ConfigureAwait(false);
+            createdAt = Timestamps.Format(now),
+        }, work.Transaction, cancellationToken: ct)).ConfigureAwait(false);
+        // the audit state names the key and its role, never its secret or hash
+        await Audit.AuditLog.AppendAsync(work, now, actor, "create", "key", name, null,
+            System.Text.Json.JsonSerializer.Serialize(new { name, role, holder = holder ?? name, keyId, isDemo, createdAt = Timestamps.Format(now) })).ConfigureAwait(false);
+        await work.CommitAsync(ct).ConfigureAwait(false);
     }
 
-    private const string FindSql = "SELECT name, role, salt, secret_hash AS secretHash, revoked_at AS revokedAt FROM api_keys WHERE key_id = @keyId";
+    private const string FindSql = "SELECT name, role, coalesce(holder, name) AS holder, salt, secret_hash AS secretHash, revoked_at AS revokedAt FROM api_keys WHERE key_id = @keyId";
 
     /// <summary>The identity behind <paramref name="key"/>, or null when it is malformed, unknown or revoked.</summary>
     public async Task<ApiKeyIdentity?> AuthenticateAsync(string key, CancellationToken ct = default)
@@ -142,7 +158,7 @@ public sealed class ApiKeyStore(IDbConnectionFactory database, TimeProvider time
             return null;
         }
 
-        var identity = new ApiKeyIdentity(row.Name, row.Role);
+        var identity = new ApiKeyIdentity(row.Name, row.Role, row.Holder);
         if (CacheLifetime > TimeSpan.Zero && _cache.Count < CacheLimit)
         {
             long expires = now + (long)(CacheLifetime.TotalSeconds * time.TimestampFrequency);
@@ -169,10 +185,12 @@ public sealed class ApiKeyStore(IDbConnectionFactory database, TimeProvider time
     private const string RevokeSql = "UPDATE api_keys SET revoked_at = @now WHERE name = @name AND revoked_at IS NULL";
 
     /// <summary>Revokes the key named <paramref name="name"/>; it answers 401 from then on.</summary>
-    public async Task RevokeAsync(string name, CancellationToken ct = default)
+    public async Task RevokeAsync(string name, string actor = CommandLineActor, CancellationToken ct = default)
     {
-        await using var connection = await database.OpenAsync(ct).ConfigureAwait(false);
-        int changed = await connection.ExecuteAsync(new CommandDefinition(RevokeSql, new { name, now = Timestamps.Format(time.GetUtcNow()) }, cancellationToken: ct)).ConfigureAwait(false);
+        await using var work = await UnitOfWork.BeginAsync(database, ct).ConfigureAwait(false);
+        var connection = work.Connection;
+        var now = time.GetUtcNow();
+        int changed = await connection.ExecuteAsync(new CommandDefinition(RevokeSql, new { name, now = Timestamps.Format(now) }, work.Transaction, cancellationToken: ct)).ConfigureAwait(false);
         foreach (var entry in _cache.Where(e => e.Value.Identity.Name == name))
         {
             _cache.TryRemove(entry.Key, out _);
@@ -180,11 +198,15 @@ public sealed class ApiKeyStore(IDbConnectionFactory database, TimeProvider time
 
         if (changed == 0)
         {
-            bool exists = await connection.ExecuteScalarAsync<long>("SELECT count(*) FROM api_keys WHERE name = @name", new { name }).ConfigureAwait(false) > 0;
+            bool exists = await connection.ExecuteScalarAsync<long>("SELECT count(*) FROM api_keys WHERE name = @name", new { name }, work.Transaction).ConfigureAwait(false) > 0;
             throw exists
                 ? new ApiKeyException(ApiKeyProblem.Conflict, $"The key '{name}' is revoked already.")
                 : new ApiKeyException(ApiKeyProblem.NotFound, $"No key is named '{name}'.");
         }
+
+        await Audit.AuditLog.AppendAsync(work, now, actor, "revoke", "key", name, null,
+            System.Text.Json.JsonSerializer.Serialize(new { name, revokedAt = Timestamps.Format(now) })).ConfigureAwait(false);
+        await work.CommitAsync(ct).ConfigureAwait(false);
     }
 
     internal static bool TryParse(string? key, out string keyId, out string secret)
@@ -214,7 +236,7 @@ public sealed class ApiKeyStore(IDbConnectionFactory database, TimeProvider time
 
     private sealed record CachedKey(ApiKeyIdentity Identity, byte[] Salt, byte[] SecretHash, long ExpiresAt);
 
-    private sealed record KeyRow(string Name, string Role, byte[] Salt, byte[] SecretHash, string? RevokedAt);
+    private sealed record KeyRow(string Name, string Role, string Holder, byte[] Salt, byte[] SecretHash, string? RevokedAt);
 
     private sealed record ListRow(string Name, string Role, string KeyId, string CreatedAt, string? RevokedAt, long IsDemo);
 }

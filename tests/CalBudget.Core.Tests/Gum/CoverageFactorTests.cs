@@ -80,4 +80,19 @@ public class CoverageFactorTests
         var ex = Assert.Throws<MetrologyException>(() => CoverageFactor.ForEffectiveDegreesOfFreedom(0.95, 0.6));
         Assert.True(ex.NotComputable);
     }
+
+    [Theory]
+    [InlineData(0.9545)]
+    [InlineData(0.99)]
+    public void HugeDegreesOfFreedomJoinTheNormalLimitSmoothly(double p)
+    {
+        // a budget whose only finite-dof term has a tiny share gets nu_eff ~ 1e26 from Welch-Satterthwaite: k is the normal
+        // quantile (JCGM 100 G.3.2: t_p(nu) -> z_p), and the expansion used from 1e6 on meets the exact quantile there
+        double z = CoverageFactor.TwoSided(p, double.PositiveInfinity);
+        Assert.Equal(z, CoverageFactor.ForEffectiveDegreesOfFreedom(p, 1.9e26), 12);
+        double nu = CoverageFactor.LargeDegreesOfFreedom * 0.999;
+        double exact = CoverageFactor.TwoSided(p, nu);
+        Assert.Equal(z + (z * z * z + z) / (4 * nu), exact, 9); // within the root finder's tolerance
+        Assert.InRange(CoverageFactor.TwoSided(p, CoverageFactor.LargeDegreesOfFreedom), z, exact);
+    }
 }
