@@ -22,4 +22,64 @@ if (args is ["stability-memory", var count])
     return;
 }
 
+// dotnet run -c Release --project tests/CalBudget.Benchmarks -- audit-verify 1000000
+if (args is ["audit-verify", var entries])
+{
+    // Fills a new database's audit trail with N chained entries (a small state each), then verifies it three times; prints
+    // the times and the peak working set (constant memory: the trail is streamed, not loaded).
+    int n = int.Parse(entries, System.Globalization.CultureInfo.InvariantCulture);
+    string folder = Path.Combine(Path.GetTempPath(), "calbudget-audit-" + Guid.NewGuid().ToString("N"));
+    try
+    {
+        var database = new CalBudget.Data.SqliteDatabase(folder);
+        await CalBudget.Data.Schema.Migrator.MigrateAsync(database);
+        var fill = Stopwatch.StartNew();
+        await using (var connection = await database.OpenAsync())
+        {
+            await using var tx = await connection.BeginTransactionAsync();
+            await using var insert = connection.CreateCommand();
+            insert.Transaction = tx;
+            insert.CommandText = "INSERT INTO audit_entries (seq, at, actor, action, entity_type, entity_id, reason, state, state_sha256, previous_sha256, entry_sha256) VALUES ($seq, $at, 'load', 'update', 'instrument', $id, NULL, $state, $stateHash, $previous, $hash)";
+            var p = new[] { "$seq", "$at", "$id", "$state", "$stateHash", "$previous", "$hash" }.Select(name =>
+            {
+                var x = insert.CreateParameter();
+                x.ParameterName = name;
+                insert.Parameters.Add(x);
+                return x;
+            }).ToArray();
+            string previous = CalBudget.Data.Audit.AuditLog.Genesis;
+            var start = new DateTimeOffset(2026, 1, 1, 0, 0, 0, TimeSpan.Zero);
+            for (long seq = 1; seq <= n; seq++)
+            {
+                string at = CalBudget.Data.Timestamps.Format(start.AddSeconds(seq));
+                string id = (seq % 1000).ToString(System.Globalization.CultureInfo.InvariantCulture);
+                string state = "{\"id\":" + id + ",\"assetNumber\":\"L-" + id + "\",\"version\":" + seq + ",\"customer\":\"load test\",\"notes\":\"an ordinary update\"}";
+                string stateHash = CalBudget.Data.Audit.AuditLog.Sha256(state);
+                string hash = CalBudget.Data.Audit.AuditLog.EntryHash(previous, seq, at, "load", "update", "instrument", id, null, stateHash);
+                (p[0].Value, p[1].Value, p[2].Value, p[3].Value, p[4].Value, p[5].Value, p[6].Value) = (seq, at, id, state, stateHash, previous, hash);
+                await insert.ExecuteNonQueryAsync();
+                previous = hash;
+            }
+
+            await tx.CommitAsync();
+        }
+
+        Console.WriteLine($"filled {n} entries in {fill.Elapsed.TotalSeconds:F1} s; peak working set so far {Process.GetCurrentProcess().PeakWorkingSet64 / 1048576} MiB");
+        var log = new CalBudget.Data.Audit.AuditLog(database);
+        for (int run = 1; run <= 3; run++)
+        {
+            var watch = Stopwatch.StartNew();
+            var result = await log.VerifyAsync();
+            Console.WriteLine($"verify {run}: {result.Entries} entries, intact {result.Intact}, {watch.Elapsed.TotalSeconds:F2} s, peak working set {Process.GetCurrentProcess().PeakWorkingSet64 / 1048576} MiB");
+        }
+    }
+    finally
+    {
+        Microsoft.Data.Sqlite.SqliteConnection.ClearAllPools();
+        Directory.Delete(folder, recursive: true);
+    }
+
+    return;
+}
+
 BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args);

@@ -4,15 +4,12 @@
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 command -v wrk >/dev/null || { apt-get update -qq && apt-get install -y -qq wrk >/dev/null; }
-work=$(mktemp -d)
-dotnet publish src/CalBudget.Api -c Release -o "$work/app" --nologo -v quiet
-export CalBudget__DataDirectory="$work/data"
-CALBUDGET_KEY=$(dotnet "$work/app/CalBudget.Api.dll" keys create --role integration --name load | tail -n 1)
-export CALBUDGET_KEY
-dotnet "$work/app/CalBudget.Api.dll" --urls http://127.0.0.1:5080 > "$work/server.log" 2>&1 &
-server=$!
-trap 'kill $server 2>/dev/null; rm -rf "$work"' EXIT
-for _ in $(seq 50); do curl -sf http://127.0.0.1:5080/health >/dev/null && break; sleep 0.2; done
+before_start() {
+  CALBUDGET_KEY=$(dotnet "$work/app/CalBudget.Api.dll" keys create --role integration --name load | tail -n 1)
+  export CALBUDGET_KEY
+}
+CALBUDGET_LOAD_ENVIRONMENT=Production
+. tests/load/serve.sh
 url=http://127.0.0.1:5080/api/v1/budgets/evaluate
 wrk -t2 -c32 -d15s -s tests/load/evaluate.lua "$url" >/dev/null
 for run in 1 2 3; do

@@ -6,13 +6,7 @@ set -euo pipefail
 cd "$(dirname "$0")/../.."
 command -v wrk >/dev/null || { apt-get update -qq && apt-get install -y -qq wrk >/dev/null; }
 n=${1:-100000}
-work=$(mktemp -d)
-dotnet publish src/CalBudget.Api -c Release -o "$work/app" --nologo -v quiet
-export CalBudget__DataDirectory="$work/data" ASPNETCORE_ENVIRONMENT=Development
-dotnet "$work/app/CalBudget.Api.dll" --urls http://127.0.0.1:5080 > "$work/server.log" 2>&1 &
-server=$!
-trap 'kill $server 2>/dev/null; [ -n "${CALBUDGET_KEEP:-}" ] || rm -rf "$work"' EXIT
-for _ in $(seq 50); do curl -sf http://127.0.0.1:5080/health >/dev/null && break; sleep 0.2; done
+. tests/load/serve.sh
 export CALBUDGET_KEY=cbk_de00000000000001_demo-technician-key-not-for-production
 # ids are sequential: the demo's four runs, then these; wrk is stopped once the last one exists
 wrk -t2 -c8 -d1h -s tests/load/create_runs.lua http://127.0.0.1:5080/api/v1/calibrations >/dev/null &

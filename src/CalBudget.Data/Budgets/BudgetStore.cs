@@ -95,11 +95,10 @@ public sealed class BudgetStore(IDbConnectionFactory database)
     }
 
     /// <summary>The budget, or null.</summary>
-    public static Task<Budget?> GetAsync(UnitOfWork work, long id)
+    public static async Task<Budget?> GetAsync(UnitOfWork work, long id)
     {
         ArgumentNullException.ThrowIfNull(work);
-        return work.Connection.QuerySingleOrDefaultAsync<BudgetRow>($"SELECT {BudgetColumns} FROM budgets b WHERE b.id = @id", new { id }, work.Transaction)
-            .ContinueWith(t => t.Result?.ToModel(), TaskScheduler.Default);
+        return (await work.Connection.QuerySingleOrDefaultAsync<BudgetRow>($"SELECT {BudgetColumns} FROM budgets b WHERE b.id = @id", new { id }, work.Transaction))?.ToModel();
     }
 
     /// <summary>The budget, or null.</summary>
@@ -144,8 +143,16 @@ public sealed class BudgetStore(IDbConnectionFactory database)
         return rows.Select(r => r.ToModel()).ToArray();
     }
 
-    private sealed record BudgetRow(long Id, long RunId, string TemplateId, string CreatedAt, string CreatedBy, long LatestVersion)
+    // a class, not a positional record: with no rows SQLite gives the computed column no type, which a constructor match needs
+    private sealed class BudgetRow
     {
+        public long Id { get; init; }
+        public long RunId { get; init; }
+        public string TemplateId { get; init; } = "";
+        public string CreatedAt { get; init; } = "";
+        public string CreatedBy { get; init; } = "";
+        public long LatestVersion { get; init; }
+
         public Budget ToModel() => new(Id, RunId, TemplateId, Timestamps.Parse(CreatedAt), CreatedBy, (int)LatestVersion);
     }
 
