@@ -87,7 +87,10 @@ public static class MonteCarloEngine
             var moments = model.Fill(values, options.Seed, stream: 0, parallel);
             var (mean, sd) = Moments.Deviation(moments);
             var (symmetric, shortest) = CoverageIntervals.Compute(values, p, moments.Min, moments.Max, parallel);
-            return new MonteCarloResult(trials, mean, sd, p, symmetric, shortest, options.Seed, Adaptive: false, Stabilized: true, null);
+            return new MonteCarloResult(trials, mean, sd, p, symmetric, shortest, options.Seed, Adaptive: false, Stabilized: true, null)
+            {
+                FractionWithin = FractionWithin(values.Span, options.CountWithin),
+            };
         }
         finally
         {
@@ -149,7 +152,27 @@ public static class MonteCarloEngine
         var overall = Moments.Combine(moments);
         var (m, u) = Moments.Deviation(overall);
         var (symmetric, shortest) = CoverageIntervals.Compute(values, p, overall.Min, overall.Max, parallel);
-        return new MonteCarloResult(total, m, u, p, symmetric, shortest, options.Seed, Adaptive: true, stabilized, null);
+        return new MonteCarloResult(total, m, u, p, symmetric, shortest, options.Seed, Adaptive: true, stabilized, null)
+        {
+            FractionWithin = FractionWithin(values, options.CountWithin),
+        };
+    }
+
+    private static double? FractionWithin(ReadOnlySpan<double> values, (double? Lower, double? Upper)? limits)
+    {
+        if (limits is not { } bounds)
+        {
+            return null;
+        }
+
+        double lo = bounds.Lower ?? double.NegativeInfinity, hi = bounds.Upper ?? double.PositiveInfinity;
+        long within = 0;
+        foreach (double v in values)
+        {
+            within += v >= lo && v <= hi ? 1 : 0;
+        }
+
+        return (double)within / values.Length;
     }
 
     private static bool IsStable(List<(double Mean, double Sd, double Low, double High)> stats, int digits)

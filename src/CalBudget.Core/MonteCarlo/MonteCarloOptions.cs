@@ -18,6 +18,12 @@ public sealed record MonteCarloOptions
     /// <summary>Significant digits of u(y) that the numerical tolerance refers to (JCGM 101 7.9.2); 2 by default.</summary>
     public int SignificantDigits { get; init; } = 2;
 
+    /// <summary>
+    /// When set, the fraction of the M output values within these limits (either may be null for no limit) is counted:
+    /// the Monte Carlo probability of conformity (JCGM 106:2012 7.4.3).
+    /// </summary>
+    public (double? Lower, double? Upper)? CountWithin { get; init; }
+
     /// <summary>Largest number of threads to use; null uses every core.</summary>
     public int? MaxDegreeOfParallelism { get; init; }
 }

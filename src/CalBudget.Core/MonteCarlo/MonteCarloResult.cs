@@ -21,7 +21,11 @@ public sealed record MonteCarloResult(
     ulong Seed,
     bool Adaptive,
     bool Stabilized,
-    GumValidation? Validation);
+    GumValidation? Validation)
+{
+    /// <summary>The fraction of output values within <see cref="MonteCarloOptions.CountWithin"/>, when asked for.</summary>
+    public double? FractionWithin { get; init; }
+}
 
 /// <summary>Validation of the GUM uncertainty framework against Monte Carlo (JCGM 101:2008 8.2).</summary>
 /// <param name="NumericalTolerance">delta of 7.9.2 for u_c expressed to the stated significant digits.</param>

@@ -1,0 +1,92 @@
+using CalBudget.Core.Aging;
+
+namespace CalBudget.Core.Conformity;
+
+/// <summary>A recall interval found from the aging fit.</summary>
+/// <param name="Days">Days from the calibration to the first day the predicted offset with its expanded uncertainty reaches the tolerance; null when that does not happen within the longest interval.</param>
+/// <param name="LongestDays">The longest interval considered (the lab's ceiling).</param>
+/// <param name="PredictedOffsetAtRecall">The predicted offset on that day (or at the ceiling).</param>
+/// <param name="ExpandedUncertaintyAtRecall">Its expanded uncertainty there.</param>
+/// <param name="Method">How it was found, in words for the certificate.</param>
+public sealed record RecallResult(int? Days, int LongestDays, double PredictedOffsetAtRecall, double ExpandedUncertaintyAtRecall, string Method);
+
+/// <summary>
+/// The predictive recall interval (the method family ILAC-G24 / OIML D10 describe for drifting instruments): the offset
+/// after calibration is y(t) = y_cal + [f(t) - f(t_cal)], the calibrated value carried forward by the fitted aging
+/// model f, with u(t)^2 = u_cal^2 + g^T C g (g the gradient of f(t) - f(t_cal) in the model's parameters, C their
+/// covariance) and U(t) = k u(t). The interval ends on the first whole day on which y(t) + U(t) reaches T_U or
+/// y(t) - U(t) reaches T_L.
+/// </summary>
+public static class RecallInterval
+{
+    /// <summary>Finds the interval.</summary>
+    /// <param name="fit">The aging fit of the instrument's dated results (days from any origin).</param>
+    /// <param name="calibrationDay">The calibration's time on the fit's axis, in days.</param>
+    /// <param name="calibratedOffset">y_cal, the result as left.</param>
+    /// <param name="standardUncertainty">u_cal, its standard uncertainty.</param>
+    /// <param name="coverageFactor">k of the certificate.</param>
+    /// <param name="limits">The tolerance.</param>
+    /// <param name="longestDays">The ceiling, 1 to 36,525 days.</param>
+    public static RecallResult Find(AgingResult fit, double calibrationDay, double calibratedOffset, double standardUncertainty, double coverageFactor,
+        ToleranceLimits limits, int longestDays)
+    {
+        ArgumentNullException.ThrowIfNull(fit);
+        ArgumentNullException.ThrowIfNull(limits);
+        if (longestDays is < 1 or > 36_525)
+        {
+            throw new MetrologyException("recallInterval.longestDays", "Between 1 and 36525 days.");
+        }
+
+        if (!double.IsFinite(standardUncertainty) || standardUncertainty <= 0 || !double.IsFinite(coverageFactor) || coverageFactor <= 0)
+        {
+            throw new MetrologyException("standardUncertainty", "The result's uncertainty and coverage factor must be finite and > 0.");
+        }
+
+        (double Y, double U) At(int day)
+        {
+            double t = calibrationDay + day;
+            double[] g = Gradient(fit, t, calibrationDay);
+            double variance = standardUncertainty * standardUncertainty;
+            for (int i = 0; i < g.Length; i++)
+            {
+                for (int j = 0; j < g.Length; j++)
+                {
+                    variance += g[i] * fit.Covariance[i, j] * g[j];
+                }
+            }
+
+            return (calibratedOffset + fit.ValueAt(t) - fit.ValueAt(calibrationDay), coverageFactor * Math.Sqrt(variance));
+        }
+
+        bool Reaches((double Y, double U) p) => (limits.Upper is { } hi && p.Y + p.U >= hi) || (limits.Lower is { } lo && p.Y - p.U <= lo);
+
+        string model = fit.Model == AgingModel.Linear ? "linear" : "logarithmic";
+        string method = $"Predictive: the as-left value carried forward by the {model} aging fit of the instrument's dated results " +
+            $"({fit.DegreesOfFreedom + fit.Parameters.Length} points), with its uncertainty from the calibration and the fit's covariance, " +
+            $"expanded with k = {coverageFactor.ToString("0.00", System.Globalization.CultureInfo.InvariantCulture)}; the interval ends on the first day " +
+            "on which the offset with its expanded uncertainty reaches a tolerance limit.";
+        for (int day = 0; day <= longestDays; day++)
+        {
+            var p = At(day);
+            if (Reaches(p))
+            {
+                return new RecallResult(day, longestDays, p.Y, p.U, method);
+            }
+        }
+
+        var end = At(longestDays);
+        return new RecallResult(null, longestDays, end.Y, end.U, method);
+    }
+
+    // d/dp [f(t) - f(t0)] for the model's parameters.
+    private static double[] Gradient(AgingResult fit, double t, double t0)
+    {
+        if (fit.Model == AgingModel.Linear)
+        {
+            return [0, t - t0];
+        }
+
+        double a = fit.Parameters[0], b = fit.Parameters[1];
+        return [Math.Log(b * t + 1) - Math.Log(b * t0 + 1), a * t / (b * t + 1) - a * t0 / (b * t0 + 1), 0];
+    }
+}
