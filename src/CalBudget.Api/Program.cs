@@ -1,6 +1,7 @@
 using CalBudget.Api.Analytics;
 using CalBudget.Api.Audit;
 using CalBudget.Api.Budgets;
+using CalBudget.Api.Certificates;
 using CalBudget.Api.Calibrations;
 using CalBudget.Api.Cli;
 using CalBudget.Api.Health;
@@ -33,6 +34,7 @@ app.MapReadingsApi();
 app.MapAuditApi();
 app.MapStoredBudgetsApi();
 app.MapSensitivityTestsApi();
+app.MapCertificatesApi();
 
 await app.Services.InitialiseDatabaseAsync(seedDemoData: app.Environment.IsDevelopment());
 await app.RunAsync();

@@ -18,6 +18,7 @@ public sealed class RoleMatrixTests : IClassFixture<RoleMatrixTests.Service>
     private static readonly string[] Admins = [D];
     private static readonly string[] Approvers = [A];
     private static readonly string[] AuditReaders = [U, D];
+    private static readonly string[] Issuers = [T, A, I];
 
     private readonly Service _service;
 
@@ -69,6 +70,12 @@ public sealed class RoleMatrixTests : IClassFixture<RoleMatrixTests.Service>
         ("POST", "/api/v1/budgets/{id:long}/versions/{number:int}/approve", "/api/v1/budgets/999/versions/1/approve", "{}", Approvers),
         ("GET", "/api/v1/audit", "/api/v1/audit", null, AuditReaders),
         ("GET", "/api/v1/audit/verify", "/api/v1/audit/verify", null, AuditReaders),
+        ("GET", "/api/v1/certificates", "/api/v1/certificates", null, Everyone),
+        ("GET", "/api/v1/certificates/{id:long}", "/api/v1/certificates/999", null, Everyone),
+        ("GET", "/api/v1/certificates/{id:long}.pdf", "/api/v1/certificates/999.pdf", null, Everyone),
+        ("POST", "/api/v1/certificates", "/api/v1/certificates", "{}", Issuers),
+        ("POST", "/api/v1/certificates/{id:long}/amend", "/api/v1/certificates/999/amend", "{}", Approvers),
+        ("POST", "/api/v1/certificates/{id:long}/withdraw", "/api/v1/certificates/999/withdraw", "{}", Approvers),
     ];
 
     public static TheoryData<string, string> Routes()

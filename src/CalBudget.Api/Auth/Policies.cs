@@ -23,6 +23,9 @@ public static class Policies
     /// <summary>Those who approve budgets.</summary>
     public const string Approver = "approver";
 
+    /// <summary>Issuing certificates: technicians, integrations and approvers.</summary>
+    public const string Issuer = "issuer";
+
     private static readonly Dictionary<string, string[]> Definitions = new(StringComparer.Ordinal)
     {
         [AnyRole] = [.. Roles.All],
@@ -30,6 +33,7 @@ public static class Policies
         [Writer] = [Roles.Technician, Roles.Integration],
         [AuditReader] = [Roles.Auditor, Roles.Admin],
         [Approver] = [Roles.Approver],
+        [Issuer] = [Roles.Technician, Roles.Integration, Roles.Approver],
     };
 
     /// <summary>Every policy name with its roles.</summary>

@@ -317,6 +317,14 @@ public static class StoredBudgetsApi
         return BudgetsApi.Compute(Snapshot(version, json).Evaluate, maxTrials).Response;
     }
 
+    /// <summary>What a stored version holds: its lines with their sources, the evaluation request built from them, and the result.</summary>
+    public static (IReadOnlyList<BudgetLineDto> Lines, EvaluateRequest Evaluate, EvaluateResponse Result) Contents(BudgetVersion version, IOptions<JsonOptions> json)
+    {
+        ArgumentNullException.ThrowIfNull(version);
+        var snapshot = Snapshot(version, json);
+        return (snapshot.Lines, snapshot.Evaluate, Result(version, json));
+    }
+
     private sealed record Built(string? Snapshot, string? Result, long? UploadId, ProblemHttpResult? Problem);
 
     /// <summary>The stored snapshot: everything the version was built from.</summary>

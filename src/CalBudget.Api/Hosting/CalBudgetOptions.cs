@@ -15,6 +15,15 @@ public sealed class CalBudgetOptions
     /// <summary>The folder of the budget templates (one JSON file each); relative paths from the service's own folder.</summary>
     public string TemplatesDirectory { get; set; } = "templates";
 
+    /// <summary>A folder of TrueType fonts for certificates (a regular and a bold .ttf); null searches the system font folders.</summary>
+    public string? FontDirectory { get; set; }
+
+    /// <summary>
+    /// The certificate number pattern: {yyyy}, {yy}, {MM} from the issue date and {seq} (or {seq:0000}, zero-padded) counting
+    /// the certificates whose numbers share the text before it.
+    /// </summary>
+    public string CertificateNumberPattern { get; set; } = "HTF-{yyyy}-{seq:0000}";
+
     /// <summary>The largest request body accepted, in bytes (413 beyond it).</summary>
     public long MaxRequestBodyBytes { get; set; } = 32L * 1024 * 1024;
 

@@ -20,8 +20,8 @@ public static class DemoData
 
     private static readonly (string Asset, string Customer, string Maker, string Model, string Kind, double Tolerance, double? Gamma)[] Instruments =
     [
-        ("CB-0042", "Northfield Avionics", "Quillon Instruments", "FC-900 universal counter", "OCXO", 5e-9, 1e-9),
-        ("CB-0043", "Northfield Avionics", "Quillon Instruments", "FC-900 universal counter", "OCXO", 5e-9, 1e-9),
+        ("CB-0042", "Northfield Avionics", "Quillon Instruments", "FC-900 universal counter", "OCXO", 2e-8, 1e-9),
+        ("CB-0043", "Northfield Avionics", "Quillon Instruments", "FC-900 universal counter", "OCXO", 2e-8, 1e-9),
         ("CB-0051", "Northfield Avionics", "Tessary Devices", "SG-40 signal generator", "TCXO", 1e-6, 5e-9),
         ("CB-0077", "Harbour Test House", "Vexmoor Electronics", "SA-7 spectrum analyser", "OCXO", 1e-7, 2e-9),
         ("CB-0078", "Harbour Test House", "Vexmoor Electronics", "SA-7 spectrum analyser", "TCXO", 2e-6, 5e-9),
@@ -47,7 +47,7 @@ public static class DemoData
         {
             var (asset, customer, maker, model, kind, tolerance, gamma) = Instruments[index];
             var spec = new TimebaseSpecificationDto(new ToleranceDto(-tolerance, tolerance, "one year after calibration, 23 +/- 5 degC"),
-                kind is "XO" or "TCXO" ? 1e-9 : 5e-10, null, kind == "XO" ? 1e-8 : 1e-10, new RangeDto(0, 50), gamma, kind is "rubidium" or "OCXO" ? 30 : 5, kind switch { "OCXO" => 5e-9, "rubidium" => 5e-11, _ => null });
+                kind switch { "XO" or "TCXO" => 1e-9, "OCXO" => 1e-11, "rubidium" => 2e-12, _ => 0 }, null, kind == "XO" ? 1e-8 : 1e-10, new RangeDto(0, 50), gamma, kind is "rubidium" or "OCXO" ? 30 : 5, kind switch { "OCXO" => 5e-9, "rubidium" => 5e-11, _ => null });
             NamedPosture[] postures =
             [
                 new("standing on its feet", 0, 0, 1),

@@ -66,6 +66,15 @@ public static class HostingExtensions
         // the templates are read (and checked) once; a malformed file stops the service at start, naming the file and field
         builder.Services.AddSingleton(sp => Budgets.TemplateCatalog.Load(Path.Combine(AppContext.BaseDirectory,
             sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value.TemplatesDirectory)));
+        builder.Services.AddSingleton<CalBudget.Data.Certificates.CertificateStore>();
+        // fonts and the lab's wording are found once; no usable font or a bad wording file stops the service at start
+        builder.Services.AddSingleton(sp =>
+        {
+            var o = sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value;
+            var fonts = CalBudget.Reports.Fonts.CertificateFonts.Find(o.FontDirectory);
+            return new Certificates.CertificateSetup(new CalBudget.Reports.CertificateRenderer(fonts),
+                Certificates.CertificateWording.Load(Path.Combine(AppContext.BaseDirectory, o.TemplatesDirectory, "wording", "certificate.json")));
+        });
         builder.Services.AddSingleton(sp => new ApiKeyStore(sp.GetRequiredService<IDbConnectionFactory>(), sp.GetRequiredService<TimeProvider>())
         {
             CacheLifetime = sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value.KeyCacheLifetime,

@@ -1,0 +1,328 @@
+using System.Globalization;
+using System.Text.Json;
+using CalBudget.Api.Budgets;
+using CalBudget.Api.Instruments;
+using CalBudget.Core;
+using CalBudget.Core.Aging;
+using CalBudget.Core.Conformity;
+using CalBudget.Core.Gum;
+using CalBudget.Core.MonteCarlo;
+using CalBudget.Core.Orientation;
+using CalBudget.Core.Stability;
+using CalBudget.Data.Calibrations;
+using CalBudget.Data.Instruments;
+using CalBudget.Data.References;
+using CalBudget.Reports;
+
+namespace CalBudget.Api.Certificates;
+
+/// <summary>Everything stored facts give a certificate: the records, the budget version and its result, the history.</summary>
+public sealed record CertificateFacts(string Number, DateTimeOffset IssuedAt, string IssuedBy, CertificateWording Wording, CertificateIssueRequest Settings,
+    Instrument Instrument, TimebaseSpecificationDto Specification, CalibrationRun Run, ReferenceStandard Reference, double[] Readings,
+    Data.Budgets.BudgetVersion Version, IReadOnlyList<BudgetLineDto> Lines, EvaluateRequest Evaluate, EvaluateResponse Result, StatedResult? AsLeft,
+    Data.Instruments.SensitivityTest? SensitivityTest, IReadOnlyList<(DateTimeOffset Date, double Offset, double U)> History, string? Replaces, string? AmendmentNote);
+
+/// <summary>What composing gives: the worded content and the numbers stored beside it.</summary>
+public sealed record ComposedCertificate(CertificateContent Content, StatedResult Result, StoredDecision? Decision, StoredRecall? Recall);
+
+/// <summary>
+/// Turns stored facts into a certificate's content: the conformity decision (Core), the recall interval (Core), the
+/// posture shifts (Core), the stability and history plots' data, and every number rounded for statement (U to two
+/// significant digits, invariant culture).
+/// </summary>
+public static class CertificateComposer
+{
+    private static readonly CultureInfo C = CultureInfo.InvariantCulture;
+
+    /// <summary>Composes; a <see cref="MetrologyException"/> names the request field that cannot be met.</summary>
+    public static ComposedCertificate Compose(CertificateFacts f, long maxTrials)
+    {
+        ArgumentNullException.ThrowIfNull(f);
+        var r = f.Result;
+        var asFound = new StatedResult(f.Run.Fields.StartedAt, r.Estimate, r.CombinedStandardUncertainty, r.ExpandedUncertainty, r.CoverageFactor, r.CoverageProbability);
+        var stated = f.AsLeft ?? asFound;
+        var spec = f.Specification;
+        ToleranceLimits? limits = f.Settings.Tolerance is { } t ? ToleranceLimits.Create(t.Lower, t.Upper)
+            : spec.Tolerance is { } st && (st.Lower is not null || st.Upper is not null) ? ToleranceLimits.Create(st.Lower, st.Upper) : null;
+
+        StoredDecision? decision = null;
+        List<string>? conformity = null;
+        if (f.Settings.DecisionRule is { } ruleRequest)
+        {
+            if (limits is null)
+            {
+                throw new MetrologyException("tolerance", "A statement of conformity needs tolerance limits: give them, or record them in the instrument's specification.");
+            }
+
+            var rule = ruleRequest.Kind switch
+            {
+                "simple-acceptance" => DecisionRule.SimpleAcceptance,
+                "guard-band" => DecisionRule.GuardBand(ruleRequest.GuardBandMultiple ?? 1),
+                "non-binary" => DecisionRule.NonBinary,
+                _ => throw new MetrologyException("decisionRule.kind", "One of simple-acceptance, guard-band, non-binary."),
+            };
+            var d = ConformityAssessment.Decide(stated.Estimate, stated.StandardUncertainty, stated.ExpandedUncertainty, limits, rule);
+            double? mcConformity = MonteCarloConformity(f, limits, maxTrials);
+            decision = new StoredDecision(ruleRequest.Kind!, limits.Lower, limits.Upper, ConformityAssessment.Words(d.Outcome), d.GuardBand, d.AcceptanceLower,
+                d.AcceptanceUpper, d.ProbabilityOfConformity, mcConformity, d.TestUncertaintyRatio);
+            conformity = [RuleWords(ruleRequest.Kind!, d.GuardBand, stated.ExpandedUncertainty, ruleRequest.GuardBandMultiple ?? 1),
+                $"Tolerance: {ToleranceWords(limits)}{(f.Settings.Tolerance is null ? $" (the instrument's specification{(spec.Tolerance?.Conditions is { Length: > 0 } cond ? ", " + cond : "")})" : "")}.",
+                $"Outcome: {ConformityAssessment.Words(d.Outcome).ToUpperInvariant()}. Probability of conformity p_c = {d.ProbabilityOfConformity.ToString("0.0000", C)} " +
+                $"for a normal result (JCGM 106:2012){(mcConformity is { } m ? $"; {m.ToString("0.0000", C)} from the budget's Monte Carlo distribution (JCGM 101)" : "")}." +
+                (d.TestUncertaintyRatio is { } tur ? $" Test uncertainty ratio (T_U - T_L) / 2U = {tur.ToString("0.0", C)} : 1." : "")];
+        }
+
+        StoredRecall? recall = null;
+        List<string>? recallWords = null;
+        var history = f.History.Append((stated.CalibratedAt, stated.Estimate, stated.ExpandedUncertainty)).OrderBy(h => h.Item1).ToArray();
+        var origin = history[0].Item1;
+        double Day(DateTimeOffset d) => (d - origin).TotalDays;
+        AgingResult? fit = null;
+        if (history.Length >= 3)
+        {
+            fit = AgingFit.Fit(history.Select(h => new AgingPoint(Day(h.Item1), h.Item2, h.Item3 / 2)).ToArray(), AgingModel.Linear);
+        }
+
+        if (f.Settings.RecallInterval is { } recallRequest)
+        {
+            if (limits is null)
+            {
+                throw new MetrologyException("tolerance", "A recall interval needs tolerance limits: give them, or record them in the instrument's specification.");
+            }
+
+            if (fit is null)
+            {
+                throw new MetrologyException("recallInterval", $"A recall interval needs an aging fit: at least three dated results (this one and priorResults or earlier certificates); there are {history.Length}.") { NotComputable = true };
+            }
+
+            var found = RecallInterval.Find(fit, Day(stated.CalibratedAt), stated.Estimate, stated.StandardUncertainty, stated.CoverageFactor, limits, recallRequest.LongestDays ?? 730);
+            DateTimeOffset? date = found.Days is { } days ? stated.CalibratedAt.UtcDateTime.Date.AddDays(days) : null;
+            recall = new StoredRecall(found.Days, date is null ? null : new DateTimeOffset(date.Value.DateTime, TimeSpan.Zero), found.LongestDays, found.Method);
+            recallWords = [found.Days is { } dd
+                    ? $"Recommended recall: {date!.Value:yyyy-MM-dd} ({dd} days after calibration), when the predicted offset {Sci(found.PredictedOffsetAtRecall)} with its expanded uncertainty {Sci(found.ExpandedUncertaintyAtRecall)} reaches the tolerance."
+                    : $"The predicted offset with its expanded uncertainty stays within the tolerance for the laboratory's longest interval of {found.LongestDays} days; recall at that interval.",
+                found.Method];
+        }
+
+        var content = new CertificateContent
+        {
+            Number = f.Number,
+            Title = f.Wording.Title,
+            LabName = f.Wording.LabName,
+            LabAddress = f.Wording.LabAddress,
+            Particulars = Particulars(f),
+            Method = [.. f.Wording.Method, $"Comparator: {f.Run.Fields.Comparator}, resolution {Sci(f.Run.Fields.ComparatorResolution)} at a gate time of {f.Run.Fields.GateTimeSeconds.ToString("G", C)} s; {f.Readings.Length} readings."],
+            Traceability = [ReferenceWords(f.Reference), f.Wording.Traceability],
+            Environment = [EnvironmentWords(f.Run.Fields.Environment)],
+            Posture = PostureWords(f),
+            Results = ResultLines(f, asFound),
+            UncertaintyStatement = $"The expanded uncertainty U is the combined standard uncertainty multiplied by the coverage factor k = {stated.CoverageFactor.ToString("0.00", C)}, " +
+                $"which for a t-distribution with {DegreesWords(r.EffectiveDegreesOfFreedom)} effective degrees of freedom corresponds to a coverage probability of approximately {(stated.CoverageProbability * 100).ToString("0.##", C)} %.",
+            Budget = BudgetRows(f.Lines, r),
+            BudgetSummary = [$"Combined standard uncertainty u_c = {Sig(r.CombinedStandardUncertainty)}; effective degrees of freedom {DegreesWords(r.EffectiveDegreesOfFreedom)}; " +
+                $"k = {r.CoverageFactor.ToString("0.00", C)}; U = {Sig(r.ExpandedUncertainty)}. Budget {f.Version.BudgetId} version {f.Version.Number} (template {f.Lines.Count} lines, engine {f.Version.EngineVersion})."
+                + (r.MonteCarlo is { } mc ? $" Monte Carlo (JCGM 101, {mc.Trials.ToString("N0", C)} trials): u = {Sig(mc.StandardUncertainty)}, {(stated.CoverageProbability * 100).ToString("0.##", C)} % interval [{Sig(mc.CoverageInterval[0])}, {Sig(mc.CoverageInterval[1])}]." : "")],
+            Conformity = conformity,
+            Recall = recallWords,
+            Stability = StabilityData(f),
+            Drift = DriftData(history, fit, origin),
+            Authorisation = [
+                $"Uncertainty budget approved by {f.Version.ApprovedBy} (approver) on {f.Version.ApprovedAt:yyyy-MM-dd HH:mm} UTC: \"{f.Version.SignatureMeaning}\"",
+                $"Budget prepared by {f.Version.MadeBy}. Certificate issued by {f.IssuedBy} on {f.IssuedAt:yyyy-MM-dd HH:mm} UTC."],
+            Statements = f.Wording.Statements,
+            Amendment = f.Replaces is null ? null : $"Amendment: this certificate replaces certificate {f.Replaces}, which is withdrawn from use. {f.AmendmentNote}",
+            Footer = f.Wording.Footer,
+        };
+        return new ComposedCertificate(content, stated, decision, recall);
+    }
+
+    private static double? MonteCarloConformity(CertificateFacts f, ToleranceLimits limits, long maxTrials)
+    {
+        if (f.AsLeft is not null || f.Evaluate.MonteCarlo is not { } mc)
+        {
+            return null;
+        }
+
+        // The same budget and seed as the stored run: the same M output values, counted within the limits.
+        if (BudgetRequestMapper.TryMap(f.Evaluate, new Hosting.FieldErrors()) is not { } budget)
+        {
+            return null;
+        }
+
+        var run = MonteCarloEngine.Run(budget, new MonteCarloOptions { Trials = mc.Trials, Seed = mc.Seed ?? 0, MaxTrials = maxTrials, CountWithin = (limits.Lower, limits.Upper) });
+        return run.FractionWithin;
+    }
+
+    private static List<Field> Particulars(CertificateFacts f)
+    {
+        var i = f.Instrument.Fields;
+        var list = new List<Field>
+        {
+            new("Customer", i.Customer + (f.Settings.CustomerAddress is { Count: > 0 } a ? ", " + string.Join(", ", a) : "")),
+            new("Item", $"{(i.Description.Length > 0 ? i.Description + ": " : "")}timebase ({i.OscillatorKind}, nominal {i.NominalFrequencyHz.ToString("G", C)} Hz)"),
+            new("Manufacturer and model", $"{i.Manufacturer} {i.Model}"),
+            new("Identification", $"asset {i.AssetNumber}{(i.SerialNumber.Length > 0 ? ", serial " + i.SerialNumber : "")}"),
+            new("Condition on receipt", f.Settings.ItemCondition ?? ""),
+            new("Date of receipt", f.Settings.ReceivedAt!.Value.ToString("yyyy-MM-dd", C)),
+            new("Date of calibration", f.Run.Fields.StartedAt.ToString("yyyy-MM-dd", C) + (f.Run.Fields.EndedAt is { } e && e.Date != f.Run.Fields.StartedAt.Date ? " to " + e.ToString("yyyy-MM-dd", C) : "")),
+            new("Date of issue", f.IssuedAt.ToString("yyyy-MM-dd", C)),
+        };
+        return list;
+    }
+
+    private static string ReferenceWords(ReferenceStandard reference)
+    {
+        var r = reference.Fields;
+        return $"Reference standard {r.Identity} ({r.Kind}, {r.NominalFrequencyHz.ToString("G", C)} Hz), certificate {r.CertificateNumber} of {r.IssuingLab} dated {r.CalibrationDate:yyyy-MM-dd}: " +
+            $"offset {Sci(r.FractionalOffset)}, U = {Sig(r.ExpandedUncertainty)} (k = {r.CoverageFactor.ToString("G", C)}), drift {Sci(r.DriftPerDay)} per day; due {r.DueDate:yyyy-MM-dd}.";
+    }
+
+    private static string EnvironmentWords(RunEnvironment e)
+    {
+        var parts = new List<string>();
+        if (e.TemperatureCelsius is { } t)
+        {
+            parts.Add($"ambient temperature {t.ToString("0.0", C)} °C" + (e.TemperatureVariationKelvin is { } dt ? $" ± {dt.ToString("0.0", C)} K" : ""));
+        }
+
+        if (e.RelativeHumidityPercent is { } h)
+        {
+            parts.Add($"relative humidity {h.ToString("0", C)} %");
+        }
+
+        if (e.Supply.Length > 0)
+        {
+            parts.Add("supply " + e.Supply);
+        }
+
+        return parts.Count == 0 ? "Laboratory conditions as recorded in the run; no values were recorded." : "During calibration: " + string.Join("; ", parts) + ".";
+    }
+
+    private static PostureStatement PostureWords(CertificateFacts f)
+    {
+        var run = f.Run.Fields;
+        var up = new Vector3D(run.UpX, run.UpY, run.UpZ);
+        var calibration = Posture.FromVector(up);
+        string name = run.PostureName ?? "a posture given by its up vector";
+        string words = $"Calibrated {name}: up vector ({Vec(calibration.Up)}) in the instrument's body frame; gravity along ({Vec(new Vector3D(-calibration.Up.X, -calibration.Up.Y, -calibration.Up.Z))}).";
+        string frame = "Body frame: +x to the right seen from the front panel, +y toward the rear, +z up through the top cover; the up vector is opposite to gravity.";
+        var others = new List<Field>();
+        string basis;
+        if (f.SensitivityTest is { } test)
+        {
+            var gamma = new Vector3D(test.Gamma[0], test.Gamma[1], test.Gamma[2]);
+            double[,]? cov = null;
+            if (test.Covariance is { } c)
+            {
+                cov = new double[3, 3];
+                for (int i = 0; i < 3; i++)
+                {
+                    for (int j = 0; j < 3; j++)
+                    {
+                        cov[i, j] = c[i][j];
+                    }
+                }
+            }
+
+            basis = $"Shifts from the acceleration-sensitivity vector measured by tip-over test {test.Id} on {test.TestedAt:yyyy-MM-dd}: Gamma = ({Vec(gamma)}) per g; dy = Gamma . (up_use - up_calibration), u from the test's covariance.";
+            foreach (var p in f.Instrument.Fields.Postures.Where(p => p.Name != run.PostureName))
+            {
+                var s = OrientationShift.Known(gamma, calibration, Posture.FromVector(new Vector3D(p.X, p.Y, p.Z)), cov);
+                others.Add(new Field(p.Name, $"{Sci(s.Shift ?? 0)} (u = {Sig(s.StandardUncertainty)}), up ({Vec(new Vector3D(p.X, p.Y, p.Z))})"));
+            }
+        }
+        else if (f.Specification.AccelerationSensitivityPerG is { } g)
+        {
+            basis = $"No tip-over test is on record: bounds from the specified acceleration sensitivity |Gamma| <= {Sci(g)} per g, |dy| <= |Gamma| |up_use - up_calibration|.";
+            foreach (var p in f.Instrument.Fields.Postures.Where(p => p.Name != run.PostureName))
+            {
+                var use = Posture.FromVector(new Vector3D(p.X, p.Y, p.Z)).Up;
+                double chord = Math.Sqrt(Math.Pow(use.X - calibration.Up.X, 2) + Math.Pow(use.Y - calibration.Up.Y, 2) + Math.Pow(use.Z - calibration.Up.Z, 2));
+                others.Add(new Field(p.Name, $"within ± {Sig(g * chord)}, up ({Vec(use)})"));
+            }
+        }
+        else
+        {
+            basis = "Neither a tip-over test nor a specified acceleration sensitivity is on record: the effect of other postures is not stated.";
+        }
+
+        return new PostureStatement(words, [calibration.Up.X, calibration.Up.Y, calibration.Up.Z], frame, others, basis);
+    }
+
+    private static List<ResultLine> ResultLines(CertificateFacts f, StatedResult measured)
+    {
+        const string quantity = "fractional frequency offset y = (f - f0) / f0 (dimensionless)";
+        string Statement(StatedResult s) => StatementRounding.Round(s.Estimate, s.ExpandedUncertainty).ToScientific();
+        if (f.AsLeft is { } left)
+        {
+            return [new ResultLine("as found", quantity, Statement(measured), "before adjustment"), new ResultLine("as left", quantity, Statement(left), "after adjustment")];
+        }
+
+        string note = f.Settings.Adjusted == true ? "" : "no adjustment was made: as found equals as left";
+        return [new ResultLine("as found", quantity, Statement(measured), note), new ResultLine("as left", quantity, Statement(measured), note)];
+    }
+
+    private static List<BudgetRow> BudgetRows(IReadOnlyList<BudgetLineDto> lines, EvaluateResponse r) =>
+        r.Contributions.Select(c =>
+        {
+            var line = lines.FirstOrDefault(l => l.Name == c.Name);
+            return new BudgetRow(c.Name, (line?.Input.Distribution ?? "normal") + $", type {c.Type}", Sig(c.StandardUncertainty), c.Sensitivity.ToString("G4", C), Sig(c.Contribution),
+                c.DegreesOfFreedom is { } nu ? nu.ToString("0.#", C) : "inf", (c.VarianceShare * 100).ToString("0.0", C) + " %");
+        }).ToList();
+
+    private static StabilityPlot StabilityData(CertificateFacts f)
+    {
+        double tau0 = f.Run.Fields.GateTimeSeconds;
+        if (f.Readings.Length < 3)
+        {
+            return new StabilityPlot("Overlapping Allan deviation of the run", [], [], [], [], "Too few readings for a stability plot.");
+        }
+
+        var analysis = StabilityAnalysis.Analyse(f.Readings, StabilityDataType.Frequency, tau0, [StabilityStatistic.Oadev]);
+        var points = analysis.Results[StabilityStatistic.Oadev].Where(p => p.Deviation > 0).ToArray();
+        return new StabilityPlot("Overlapping Allan deviation of the run (NIST SP 1065), bars: 68.3 % confidence intervals",
+            points.Select(p => p.Tau).ToArray(), points.Select(p => p.Deviation).ToArray(), points.Select(p => p.Interval.Low).ToArray(), points.Select(p => p.Interval.High).ToArray(),
+            $"{f.Readings.Length} readings at tau0 = {tau0.ToString("G", C)} s.");
+    }
+
+    private static DriftPlot DriftData((DateTimeOffset Date, double Offset, double U)[] history, AgingResult? fit, DateTimeOffset origin)
+    {
+        double[] days = history.Select(h => (h.Date - origin).TotalDays).ToArray();
+        double[]? fitDays = fit is null ? null : [days[0], days[^1]];
+        return new DriftPlot("History of the instrument's results, bars: U", days, history.Select(h => h.Offset).ToArray(), history.Select(h => h.U).ToArray(),
+            fitDays, fitDays?.Select(fit!.ValueAt).ToArray(), $"days from {origin:yyyy-MM-dd}",
+            fit is null ? $"{history.Length} dated result(s); a drift line needs three." : $"Dashed: linear aging fit, {Sci(fit.Parameters[1])} per day.");
+    }
+
+    private static string RuleWords(string kind, double w, double bigU, double multiple) => kind switch
+    {
+        "simple-acceptance" => "Decision rule: simple acceptance (ILAC-G8:09/2019 4.2.1): the item conforms when the measured value lies within the tolerance; the risk of a false acceptance can reach 50 % for a value at a limit.",
+        "guard-band" => $"Decision rule: guarded acceptance (ILAC-G8:09/2019 4.2.2) with a guard band w = {multiple.ToString("G", C)} U = {Sig(w)}: the item conforms when the measured value lies within the tolerance narrowed by w.",
+        _ => $"Decision rule: the non-binary statement of ILAC-G8:09/2019 4.2.3 with w = U = {Sig(bigU)}: pass, conditional pass, conditional fail or fail according to where y ± U lies against the tolerance.",
+    };
+
+    private static string ToleranceWords(ToleranceLimits l) => (l.Lower, l.Upper) switch
+    {
+        ({ } lo, { } hi) => $"{Sci(lo)} to {Sci(hi)}",
+        (null, { } hi) => $"at most {Sci(hi)}",
+        ({ } lo, null) => $"at least {Sci(lo)}",
+        _ => "none",
+    };
+
+    private static string DegreesWords(double? nu) => nu switch
+    {
+        null => "infinite",
+        > 10_000 => "more than 10,000",
+        { } n => n.ToString("0", C),
+    };
+
+    // + 0.0 turns a negative zero into zero, so no "-0" is printed.
+    private static string Vec(Vector3D v) => $"{(v.X + 0.0).ToString("0.###", C)}, {(v.Y + 0.0).ToString("0.###", C)}, {(v.Z + 0.0).ToString("0.###", C)}";
+
+    // A value in scientific notation to three significant digits; an uncertainty to two (JCGM 100 7.2.6).
+    private static string Sci(double v) => v.ToString("0.00E+00", C);
+
+    private static string Sig(double u) => u > 0 && double.IsFinite(u) ? u.ToString("0.0E+00", C) : u.ToString("G3", C);
+
+    internal static JsonElement Element<T>(T value, JsonSerializerOptions o) => JsonSerializer.SerializeToElement(value, o);
+}
