@@ -24,7 +24,7 @@ public static class CertificatePlots
 
             var line = plot.Add.Scatter(x, y);
             line.Color = new Color(0x1f, 0x4e, 0x79);
-            line.MarkerSize = 6;
+            line.MarkerSize = 4;
             plot.Axes.Bottom.TickGenerator = LogTicks();
             plot.Axes.Left.TickGenerator = LogTicks();
         }
@@ -55,7 +55,7 @@ public static class CertificatePlots
 
             var points = plot.Add.ScatterPoints(data.Days, data.Offset);
             points.Color = new Color(0x1f, 0x4e, 0x79);
-            points.MarkerSize = 7;
+            points.MarkerSize = 5;
         }
 
         plot.Axes.Bottom.Label.Text = data.AxisLabel;
@@ -84,6 +84,14 @@ public static class CertificatePlots
         var plot = new Plot();
         plot.Font.Set(family);
         plot.ScaleFactor = Scale;
+        // sizes in points of the printed plot (the image is drawn at Scale pixels per point)
+        foreach (var axis in new IAxis[] { plot.Axes.Bottom, plot.Axes.Left })
+        {
+            axis.Label.FontSize = 8;
+            axis.Label.Bold = false;
+            axis.TickLabelStyle.FontSize = 7;
+        }
+
         return plot;
     }
 

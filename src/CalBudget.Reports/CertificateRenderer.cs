@@ -13,7 +13,7 @@ namespace CalBudget.Reports;
 /// </summary>
 public sealed class CertificateRenderer(CertificateFonts fonts)
 {
-    private const double Margin = 45, Top = 78, Bottom = 60;
+    private const double Margin = 45, Top = 72, Bottom = 58;
     private static readonly XColor Ink = XColor.FromArgb(0x1f, 0x2a, 0x36);
     private static readonly XColor Accent = XColor.FromArgb(0x1f, 0x4e, 0x79);
     private static readonly XColor Rule = XColor.FromArgb(0xb8, 0xc4, 0xd0);
@@ -107,7 +107,7 @@ public sealed class CertificateRenderer(CertificateFonts fonts)
                 g.DrawLine(new XPen(Rule, 0.6), Margin, y - 6, PageSize.Width - Margin, y - 6);
                 string page = string.Create(CultureInfo.InvariantCulture, $"Certificate {_c.Number} · page {i + 1} of {count}");
                 g.DrawString(page, _smallBold, new XSolidBrush(Ink), new XRect(Margin, y, Width, 10), XStringFormats.TopRight);
-                foreach (string line in Wrap(g, _c.Footer, _small, Width - 150))
+                foreach (string line in Wrap(g, _c.Footer, _small, Width - 215))
                 {
                     g.DrawString(line, _small, new XSolidBrush(Ink), new XRect(Margin, y, Width, 10), XStringFormats.TopLeft);
                     y += 9;
@@ -294,7 +294,7 @@ public sealed class CertificateRenderer(CertificateFonts fonts)
 
         private void Plots()
         {
-            const int w = 250, h = 170;
+            const int w = 250, h = 140;
             Heading("Frequency stability of the run and history of the instrument", h + 40);
             double top = _y;
             Image(CertificatePlots.Stability(_c.Stability, _family, w, h), Margin, top, w, h);

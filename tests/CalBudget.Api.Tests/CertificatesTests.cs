@@ -29,14 +29,15 @@ public sealed class CertificatesTests : IDisposable
     private sealed record Setup(HttpClient Tech, HttpClient Approver, long Instrument, long Budget);
 
     // An invented OCXO counter with a tolerance and three postures, a run of 300 white-FM readings, its budget approved by a second person.
-    private async Task<Setup> ApprovedBudgetAsync(string asset = "CB-0301", string tolerance = """{ "lower": -2e-8, "upper": 2e-8, "conditions": "one year" }""")
+    private async Task<Setup> ApprovedBudgetAsync(string asset = "CB-0301", string tolerance = """{ "lower": -2e-8, "upper": 2e-8, "conditions": "one year" }""",
+        string kind = "OCXO", string template = "ocxo-counter", ServiceFactory? factory = null)
     {
-        var tech = await _factory.ClientAsync("technician", holder: "kim");
-        var approver = await _factory.ClientAsync("approver", holder: "ola");
+        var tech = await (factory ?? _factory).ClientAsync("technician", holder: "kim");
+        var approver = await (factory ?? _factory).ClientAsync("approver", holder: "ola");
         string instrumentBody = $$"""
         { "assetNumber": "{{asset}}", "customer": "Northfield Avionics", "manufacturer": "Quillon Instruments", "model": "FC-900", "serialNumber": "Q-7311",
           "description": "FC-900 universal counter",
-          "timebase": { "oscillatorKind": "OCXO", "nominalFrequencyHz": 10000000,
+          "timebase": { "oscillatorKind": "{{kind}}", "nominalFrequencyHz": 10000000,
             "specification": { "tolerance": {{tolerance}}, "agingPerDay": 1e-11, "temperatureCoefficientPerKelvin": 1e-10, "accelerationSensitivityPerG": 1e-9, "retrace": 2e-9 } },
           "postures": [ { "name": "standing on its feet", "up": "+z" }, { "name": "on its left side", "up": "-x" }, { "name": "upside down", "up": "-z" } ] }
         """;
@@ -59,7 +60,7 @@ public sealed class CertificatesTests : IDisposable
         }
 
         await Json.ReadAsync(await tech.PostAsync($"/api/v1/calibrations/{run}/readings", new StringContent(csv.ToString(), Encoding.UTF8, "text/csv")), HttpStatusCode.Created);
-        long budget = (await Json.PostAsync(tech, "/api/v1/budgets", $$"""{ "runId": {{run}}, "templateId": "ocxo-counter", "posturePolicy": { "kind": "as-calibrated" }, "monteCarlo": { "trials": 50000, "seed": 5 } }""",
+        long budget = (await Json.PostAsync(tech, "/api/v1/budgets", $$"""{ "runId": {{run}}, "templateId": "{{template}}", "posturePolicy": { "kind": "as-calibrated" }, "monteCarlo": { "trials": 50000, "seed": 5 } }""",
             HttpStatusCode.Created))["id"]!.GetValue<long>();
         await Json.ReadAsync(await approver.PostAsync($"/api/v1/budgets/{budget}/versions/1/approve", Json.Body("{}")), HttpStatusCode.OK);
         return new Setup(tech, approver, instrument, budget);
@@ -122,10 +123,11 @@ public sealed class CertificatesTests : IDisposable
             "Recommended recall", "Predictive",                                                             // the recall interval, asked for
             "Overlapping Allan deviation of the run", "History of the instrument's results",               // the two plots
             "relates only to the item calibrated",                                                          // the caution
-            "(approver)",                                                                                  // the approver's role
+            "Authorised by ola, approver",                                                                  // the approver's name and role
         ];
         var version = await Json.ReadAsync(await s.Tech.GetAsync($"/api/v1/budgets/{s.Budget}/versions/1"), HttpStatusCode.OK);
-        Assert.Contains($"approved by {version["approvedBy"]} (approver) on {version["approvedAt"]!.GetValue<DateTimeOffset>():yyyy-MM-dd HH:mm} UTC", all, StringComparison.Ordinal);
+        Assert.Contains($"Authorised by ola, approver (key {version["approvedBy"]}), who approved the uncertainty budget on {version["approvedAt"]!.GetValue<DateTimeOffset>():yyyy-MM-dd HH:mm} UTC", all, StringComparison.Ordinal);
+        Assert.Contains("Budget prepared by kim.", all, StringComparison.Ordinal);
         foreach (string item in required)
         {
             Assert.True(all.Contains(item, StringComparison.Ordinal), $"missing: {item}");
@@ -138,6 +140,25 @@ public sealed class CertificatesTests : IDisposable
         Assert.Contains(statement, all, StringComparison.Ordinal);
         using var document = PdfDocument.Open(pdf);
         Assert.True(document.GetPages().Sum(p => p.GetImages().Count()) >= 2, "two plots");
+    }
+
+    [Theory]
+    [InlineData("OCXO", "ocxo-counter", "CB-0311")]
+    [InlineData("TCXO", "tcxo-generator", "CB-0312")]
+    [InlineData("XO", "tcxo-generator", "CB-0313")]
+    [InlineData("rubidium", "rubidium-reference", "CB-0314")]
+    [InlineData("GNSS-disciplined", "gnss-reference", "CB-0315")]
+    public async Task EveryTimebaseClassGetsACertificateThatDownloadsAndVerifies(string kind, string template, string asset)
+    {
+        var s = await ApprovedBudgetAsync(asset, """{ "lower": -1e-6, "upper": 1e-6 }""", kind, template);
+        var cert = await Json.PostAsync(s.Tech, "/api/v1/certificates", IssueBody(s.Budget), HttpStatusCode.Created);
+        byte[] pdf = await s.Tech.GetByteArrayAsync($"/api/v1/certificates/{cert["id"]}.pdf");
+        Assert.Equal(cert["pdfSha256"]!.GetValue<string>(), Convert.ToHexStringLower(SHA256.HashData(pdf)));
+        string text = Squash(string.Join(" ", Pages(pdf)));
+        Assert.Contains($"asset {asset}", text, StringComparison.Ordinal);
+        Assert.Contains($"timebase ({kind},", text, StringComparison.Ordinal);
+        Assert.Contains("Calibrated standing on its feet: up vector (0, 0, 1)", text, StringComparison.Ordinal);
+        Assert.Equal("pass", cert["decision"]!["outcome"]!.GetValue<string>());
     }
 
     [Fact]
@@ -280,6 +301,18 @@ public sealed class CertificatesTests : IDisposable
         {
             Directory.Delete(folder, recursive: true);
         }
+    }
+
+    [Fact]
+    public async Task TheNumberFollowsTheConfiguredPattern()
+    {
+        using var factory = new ServiceFactory(settings: new() { ["CalBudget:CertificateNumberPattern"] = "CAL/{yy}{MM}/{seq:000}-T" });
+        var s = await ApprovedBudgetAsync(factory: factory);
+        string expected = $"CAL/{DateTimeOffset.UtcNow:yyMM}/";
+        var first = await Json.PostAsync(s.Tech, "/api/v1/certificates", IssueBody(s.Budget), HttpStatusCode.Created);
+        var second = await Json.PostAsync(s.Tech, "/api/v1/certificates", IssueBody(s.Budget), HttpStatusCode.Created);
+        Assert.Equal(expected + "001-T", first["number"]!.GetValue<string>());
+        Assert.Equal(expected + "002-T", second["number"]!.GetValue<string>());
     }
 
     [Fact]

@@ -17,7 +17,7 @@ using CalBudget.Reports;
 namespace CalBudget.Api.Certificates;
 
 /// <summary>Everything stored facts give a certificate: the records, the budget version and its result, the history.</summary>
-public sealed record CertificateFacts(string Number, DateTimeOffset IssuedAt, string IssuedBy, CertificateWording Wording, CertificateIssueRequest Settings,
+public sealed record CertificateFacts(string Number, DateTimeOffset IssuedAt, string IssuedBy, string ApproverPerson, string MakerPerson, CertificateWording Wording, CertificateIssueRequest Settings,
     Instrument Instrument, TimebaseSpecificationDto Specification, CalibrationRun Run, ReferenceStandard Reference, double[] Readings,
     Data.Budgets.BudgetVersion Version, IReadOnlyList<BudgetLineDto> Lines, EvaluateRequest Evaluate, EvaluateResponse Result, StatedResult? AsLeft,
     Data.Instruments.SensitivityTest? SensitivityTest, IReadOnlyList<(DateTimeOffset Date, double Offset, double U)> History, string? Replaces, string? AmendmentNote);
@@ -127,8 +127,8 @@ public static class CertificateComposer
             Stability = StabilityData(f),
             Drift = DriftData(history, fit, origin),
             Authorisation = [
-                $"Uncertainty budget approved by {f.Version.ApprovedBy} (approver) on {f.Version.ApprovedAt:yyyy-MM-dd HH:mm} UTC: \"{f.Version.SignatureMeaning}\"",
-                $"Budget prepared by {f.Version.MadeBy}. Certificate issued by {f.IssuedBy} on {f.IssuedAt:yyyy-MM-dd HH:mm} UTC."],
+                $"Authorised by {f.ApproverPerson}, approver (key {f.Version.ApprovedBy}), who approved the uncertainty budget on {f.Version.ApprovedAt:yyyy-MM-dd HH:mm} UTC: \"{f.Version.SignatureMeaning}\"",
+                $"Budget prepared by {f.MakerPerson}. Certificate issued by {f.IssuedBy} on {f.IssuedAt:yyyy-MM-dd HH:mm} UTC."],
             Statements = f.Wording.Statements,
             Amendment = f.Replaces is null ? null : $"Amendment: this certificate replaces certificate {f.Replaces}, which is withdrawn from use. {f.AmendmentNote}",
             Footer = f.Wording.Footer,
@@ -159,7 +159,7 @@ public static class CertificateComposer
         var list = new List<Field>
         {
             new("Customer", i.Customer + (f.Settings.CustomerAddress is { Count: > 0 } a ? ", " + string.Join(", ", a) : "")),
-            new("Item", $"{(i.Description.Length > 0 ? i.Description + ": " : "")}timebase ({i.OscillatorKind}, nominal {i.NominalFrequencyHz.ToString("G", C)} Hz)"),
+            new("Item", $"{(i.Description.Length > 0 ? i.Description + "; " : "")}timebase ({i.OscillatorKind}, nominal {Hertz(i.NominalFrequencyHz)})"),
             new("Manufacturer and model", $"{i.Manufacturer} {i.Model}"),
             new("Identification", $"asset {i.AssetNumber}{(i.SerialNumber.Length > 0 ? ", serial " + i.SerialNumber : "")}"),
             new("Condition on receipt", f.Settings.ItemCondition ?? ""),
@@ -173,7 +173,7 @@ public static class CertificateComposer
     private static string ReferenceWords(ReferenceStandard reference)
     {
         var r = reference.Fields;
-        return $"Reference standard {r.Identity} ({r.Kind}, {r.NominalFrequencyHz.ToString("G", C)} Hz), certificate {r.CertificateNumber} of {r.IssuingLab} dated {r.CalibrationDate:yyyy-MM-dd}: " +
+        return $"Reference standard {r.Identity} ({r.Kind}, {Hertz(r.NominalFrequencyHz)}), certificate {r.CertificateNumber} of {r.IssuingLab} dated {r.CalibrationDate:yyyy-MM-dd}: " +
             $"offset {Sci(r.FractionalOffset)}, U = {Sig(r.ExpandedUncertainty)} (k = {r.CoverageFactor.ToString("G", C)}), drift {Sci(r.DriftPerDay)} per day; due {r.DueDate:yyyy-MM-dd}.";
     }
 
@@ -307,6 +307,14 @@ public static class CertificateComposer
         (null, { } hi) => $"at most {Sci(hi)}",
         ({ } lo, null) => $"at least {Sci(lo)}",
         _ => "none",
+    };
+
+    private static string Hertz(double f) => f switch
+    {
+        >= 1e9 => (f / 1e9).ToString("G6", C) + " GHz",
+        >= 1e6 => (f / 1e6).ToString("G6", C) + " MHz",
+        >= 1e3 => (f / 1e3).ToString("G6", C) + " kHz",
+        _ => f.ToString("G6", C) + " Hz",
     };
 
     private static string DegreesWords(double? nu) => nu switch

@@ -324,7 +324,8 @@ public static class CertificatesApi
 
         history.AddRange((request.PriorResults ?? []).Select(p => (p.Date!.Value, p.FractionalOffset!.Value, p.ExpandedUncertainty!.Value)));
         string number = await NextNumberAsync(work, options.CertificateNumberPattern, now);
-        var facts = new CertificateFacts(number, now, Conventions.Actor(http.User), setup.Wording, request, instrument, spec, run, reference, [.. values], version, lines,
+        string approver = await Data.Keys.ApiKeyStore.PersonAsync(work, version.ApprovedBy!);
+        var facts = new CertificateFacts(number, now, Conventions.Person(http.User), approver, version.MadeByPerson, setup.Wording, request, instrument, spec, run, reference, [.. values], version, lines,
             evaluate, result, asLeft, await SensitivityTestStore.LatestAsync(work, instrument.Id), history, replaces?.Number, note);
         ComposedCertificate composed;
         try

@@ -57,6 +57,14 @@ public sealed class ApiKeyStore(IDbConnectionFactory database, TimeProvider time
     /// <summary>How long a verified key is remembered; zero turns the cache off. Five seconds unless configured.</summary>
     public TimeSpan CacheLifetime { get; init; } = TimeSpan.FromSeconds(5);
 
+    /// <summary>The person behind the key named <paramref name="name"/> (its holder, else the name itself).</summary>
+    public static async Task<string> PersonAsync(UnitOfWork work, string name)
+    {
+        ArgumentNullException.ThrowIfNull(work);
+        return await work.Connection.ExecuteScalarAsync<string?>("SELECT coalesce(holder, name) FROM api_keys WHERE name = @name", new { name }, work.Transaction)
+            ?? name;
+    }
+
     /// <summary>Makes a new key for <paramref name="role"/> and returns it; it is shown this once and never stored.</summary>
     public async Task<string> CreateAsync(string name, string role, string actor = CommandLineActor, string? holder = null, CancellationToken ct = default)
     {
