@@ -8,6 +8,7 @@ using CalBudget.Api.Health;
 using CalBudget.Api.Hosting;
 using CalBudget.Api.Instruments;
 using CalBudget.Api.Keys;
+using CalBudget.Api.Pages;
 using CalBudget.Api.References;
 
 if (CommandLine.IsCommand(args))
@@ -35,6 +36,7 @@ app.MapAuditApi();
 app.MapStoredBudgetsApi();
 app.MapSensitivityTestsApi();
 app.MapCertificatesApi();
+app.MapStaffPages();
 
 await app.Services.InitialiseDatabaseAsync(seedDemoData: app.Environment.IsDevelopment());
 await app.RunAsync();

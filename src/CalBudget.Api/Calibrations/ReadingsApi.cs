@@ -72,10 +72,18 @@ public static class ReadingsApi
         [FromHeader(Name = Conventions.IdempotencyKeyHeader)] string? idempotencyKey, CancellationToken ct)
     {
         ArgumentNullException.ThrowIfNull(http);
+        return await UploadAsync(id, reason, http.Request.ContentType, http.Request.Body, http, database, time, json, options, idempotencyKey, ct);
+    }
+
+    /// <summary>The upload from any stream (the request body, or a file from the staff pages' form) with its content type.</summary>
+    public static async Task<IResult> UploadAsync(long id, string? reason, string? contentType, Stream body, HttpContext http, IDbConnectionFactory database,
+        TimeProvider time, IOptions<JsonOptions> json, IOptions<CalBudgetOptions> options, string? idempotencyKey, CancellationToken ct)
+    {
+        ArgumentNullException.ThrowIfNull(http);
         ArgumentNullException.ThrowIfNull(time);
         ArgumentNullException.ThrowIfNull(json);
         ArgumentNullException.ThrowIfNull(options);
-        string? mediaType = UploadMediaType(http.Request.ContentType);
+        string? mediaType = UploadMediaType(contentType);
         if (mediaType is null)
         {
             return Problems.Status(StatusCodes.Status415UnsupportedMediaType, "Readings are text/csv or application/json.",
@@ -93,7 +101,7 @@ public static class ReadingsApi
         // The body is spooled to a temporary file first, so that a slow client never holds the database's write lock.
         await using var spool = new FileStream(Path.Combine(Path.GetTempPath(), $"calbudget-readings-{Guid.NewGuid():N}.tmp"), FileMode.CreateNew,
             FileAccess.ReadWrite, FileShare.None, 1 << 16, FileOptions.DeleteOnClose | FileOptions.Asynchronous);
-        byte[] bodyHash = await SpoolAsync(http.Request.Body, spool, ct);
+        byte[] bodyHash = await SpoolAsync(body, spool, ct);
         if (spool.Length == 0)
         {
             return Problems.Invalid(new Dictionary<string, string[]> { ["body"] = ["The file is empty: it needs a header row and at least one reading."] });

@@ -23,7 +23,8 @@ namespace CalBudget.Api.Certificates;
 /// <summary>The fonts, the renderer and the lab's wording, set up once at start (a missing font or a bad wording file stops the start).</summary>
 /// <param name="Renderer">The PDF layout.</param>
 /// <param name="Wording">The lab's wording blocks.</param>
-public sealed record CertificateSetup(CertificateRenderer Renderer, CertificateWording Wording);
+/// <param name="Fonts">The faces found at start (plots on the staff pages use them too).</param>
+public sealed record CertificateSetup(CertificateRenderer Renderer, CertificateWording Wording, Reports.Fonts.CertificateFonts Fonts);
 
 /// <summary>/api/v1/certificates: issue from an approved budget version, read, the PDF, amend, withdraw, list.</summary>
 public static class CertificatesApi

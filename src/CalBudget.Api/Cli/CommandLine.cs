@@ -13,7 +13,7 @@ namespace CalBudget.Api.Cli;
 public static class CommandLine
 {
     /// <summary>True when the first argument names a command rather than a host setting.</summary>
-    public static bool IsCommand(string[] args) => args is ["keys", ..];
+    public static bool IsCommand(string[] args) => args is ["keys", ..] or ["users", ..];
 
     /// <summary>Runs the command; returns the process exit code (0 done, 1 refused, 2 usage).</summary>
     public static async Task<int> RunAsync(string[] args, TextWriter stdout, TextWriter stderr)
@@ -31,6 +31,11 @@ public static class CommandLine
         var settings = config.GetSection(CalBudgetOptions.Section).Get<CalBudgetOptions>() ?? new CalBudgetOptions();
         var database = new SqliteDatabase(settings.DataDirectory);
         await Migrator.MigrateAsync(database);
+        if (args[0] == "users")
+        {
+            return await UsersAsync(positional, named, database, stdout, stderr);
+        }
+
         var store = new ApiKeyStore(database, TimeProvider.System);
         try
         {
@@ -66,6 +71,47 @@ public static class CommandLine
         {
             await stderr.WriteLineAsync(ex.Message);
             return 1;
+        }
+    }
+
+    // users create --role R --name N: a new account with a random password, printed alone on the last line; users list.
+    private static async Task<int> UsersAsync(string[] positional, Dictionary<string, string> named, SqliteDatabase database, TextWriter stdout, TextWriter stderr)
+    {
+        var store = new Data.Users.UserStore(database);
+        var accounts = new Auth.UserAccounts(store, TimeProvider.System);
+        switch (positional)
+        {
+            case ["create"] when named.TryGetValue("role", out var role) && named.TryGetValue("name", out var name):
+                string password = Auth.UserAccounts.NewPassword();
+                try
+                {
+                    if (await accounts.CreateAsync(name, role, password) is null)
+                    {
+                        await stderr.WriteLineAsync($"A user named '{name}' exists already.");
+                        return 1;
+                    }
+                }
+                catch (ArgumentException ex)
+                {
+                    await stderr.WriteLineAsync(ex.Message);
+                    return 1;
+                }
+
+                await stdout.WriteLineAsync($"Created user '{name}' with the role {role} in {database.FilePath}. Their first password (shown once):");
+                await stdout.WriteLineAsync(password);
+                return 0;
+            case ["list"]:
+                foreach (var u in await store.ListAsync())
+                {
+                    string status = u.DisabledAt is not null ? "disabled" : u.LockedUntil is { } l && l > DateTimeOffset.UtcNow ? $"locked until {l:HH:mm} UTC" : u.IsDemo ? "active (demo)" : "active";
+                    await stdout.WriteLineAsync($"{u.Name,-32} {u.Role,-12} {u.CreatedAt:yyyy-MM-dd HH:mm}     {status}");
+                }
+
+                return 0;
+            default:
+                await stderr.WriteLineAsync("usage: users create --role <technician|approver|auditor|integration|admin> --name <sign-in name>");
+                await stderr.WriteLineAsync("       users list");
+                return 2;
         }
     }
 

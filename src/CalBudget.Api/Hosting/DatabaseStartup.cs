@@ -38,6 +38,12 @@ public static class DatabaseStartup
                 await keys.InsertDemoKeyAsync(name, role, key, ct);
             }
 
+            var users = services.GetRequiredService<Auth.UserAccounts>();
+            foreach (var (name, role, password) in Auth.UserAccounts.DemoUsers)
+            {
+                await users.CreateAsync(name, role, password, isDemo: true, ct);
+            }
+
             await DemoData.SeedAsync(services, ct);
             Log.DemoKeysSeeded(log);
         }

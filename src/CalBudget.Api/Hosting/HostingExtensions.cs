@@ -73,7 +73,7 @@ public static class HostingExtensions
             var o = sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value;
             var fonts = CalBudget.Reports.Fonts.CertificateFonts.Find(o.FontDirectory);
             return new Certificates.CertificateSetup(new CalBudget.Reports.CertificateRenderer(fonts),
-                Certificates.CertificateWording.Load(Path.Combine(AppContext.BaseDirectory, o.TemplatesDirectory, "wording", "certificate.json")));
+                Certificates.CertificateWording.Load(Path.Combine(AppContext.BaseDirectory, o.TemplatesDirectory, "wording", "certificate.json")), fonts);
         });
         builder.Services.AddSingleton(sp => new ApiKeyStore(sp.GetRequiredService<IDbConnectionFactory>(), sp.GetRequiredService<TimeProvider>())
         {
@@ -81,8 +81,29 @@ public static class HostingExtensions
         });
         builder.Services.AddOutputCache(o => o.AddPolicy(OpenApiCachePolicy, p => p.Expire(TimeSpan.FromHours(1))));
 
+        builder.Services.AddSingleton<CalBudget.Data.Users.UserStore>();
+        builder.Services.AddSingleton<UserAccounts>();
+        builder.Services.AddRazorComponents();
+        builder.Services.AddAntiforgery(o =>
+        {
+            o.Cookie.Name = "calbudget.antiforgery";
+            o.Cookie.SameSite = SameSiteMode.Strict;
+            o.Cookie.SecurePolicy = Microsoft.AspNetCore.Http.CookieSecurePolicy.SameAsRequest;
+        });
         builder.Services.AddAuthentication(ApiKeyAuthenticationHandler.SchemeName)
-            .AddScheme<AuthenticationSchemeOptions, ApiKeyAuthenticationHandler>(ApiKeyAuthenticationHandler.SchemeName, null);
+            .AddScheme<AuthenticationSchemeOptions, ApiKeyAuthenticationHandler>(ApiKeyAuthenticationHandler.SchemeName, null)
+            .AddCookie(UserAccounts.CookieScheme, o =>
+            {
+                // the staff pages' session: HttpOnly, SameSite=Strict, Secure whenever the request came over HTTPS
+                o.LoginPath = "/sign-in";
+                o.AccessDeniedPath = "/denied";
+                o.Cookie.Name = "calbudget.staff";
+                o.Cookie.HttpOnly = true;
+                o.Cookie.SameSite = SameSiteMode.Strict;
+                o.Cookie.SecurePolicy = Microsoft.AspNetCore.Http.CookieSecurePolicy.SameAsRequest;
+                o.ExpireTimeSpan = TimeSpan.FromHours(8);
+                o.SlidingExpiration = true;
+            });
         builder.Services.AddAuthorizationBuilder().AddCalBudgetPolicies();
         builder.Services.AddCalBudgetOpenApi();
         return builder;
@@ -92,7 +113,13 @@ public static class HostingExtensions
     {
         foreach (var (name, roles) in Policies.All)
         {
-            auth.AddPolicy(name, p => p.RequireAuthenticatedUser().RequireRole(roles));
+            auth.AddPolicy(name, p => p.AddAuthenticationSchemes(ApiKeyAuthenticationHandler.SchemeName).RequireAuthenticatedUser().RequireRole(roles));
+        }
+
+        // the pages take the same roles, from the staff cookie only (an API key does not open a page, a cookie does not call the API)
+        foreach (var (name, apiPolicy) in Pages.PagePolicies.RolesFrom)
+        {
+            auth.AddPolicy(name, p => p.AddAuthenticationSchemes(UserAccounts.CookieScheme).RequireAuthenticatedUser().RequireRole(Policies.RolesOf(apiPolicy)));
         }
 
         return auth;
@@ -109,9 +136,20 @@ public static class HostingExtensions
             context.Response.Headers["X-Request-Id"] = context.TraceIdentifier;
             return next(context);
         });
+        app.Use((context, next) =>
+        {
+            // no script anywhere; nothing may frame the pages
+            var h = context.Response.Headers;
+            h["Content-Security-Policy"] = "default-src 'self'; script-src 'none'; style-src 'self'; img-src 'self'; form-action 'self'; frame-ancestors 'none'; base-uri 'none'; object-src 'none'";
+            h["X-Content-Type-Options"] = "nosniff";
+            h["Referrer-Policy"] = "no-referrer";
+            h["X-Frame-Options"] = "DENY";
+            return next(context);
+        });
         app.UseMiddleware<RequestBodyLimitMiddleware>();
         app.UseAuthentication();
         app.UseAuthorization();
+        app.UseAntiforgery();
         app.UseOutputCache();
         return app;
     }

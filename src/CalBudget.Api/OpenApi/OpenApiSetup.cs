@@ -12,6 +12,7 @@ namespace CalBudget.Api.OpenApi;
 public static class OpenApiSetup
 {
     private const string Scheme = "apiKey";
+    private const string CookieScheme = "staffCookie";
 
     /// <summary>Registers the document and its transformers.</summary>
     public static IServiceCollection AddCalBudgetOpenApi(this IServiceCollection services) =>
@@ -36,6 +37,13 @@ public static class OpenApiSetup
                     Type = SecuritySchemeType.Http,
                     Scheme = "bearer",
                     Description = "An API key made with 'keys create' or by an admin: Authorization: Bearer <key>.",
+                };
+                document.Components.SecuritySchemes[CookieScheme] = new OpenApiSecurityScheme
+                {
+                    Type = SecuritySchemeType.ApiKey,
+                    In = ParameterLocation.Cookie,
+                    Name = "calbudget.staff",
+                    Description = "The staff pages' session cookie, set by POST /sign-in (user accounts, not API keys).",
                 };
                 return Task.CompletedTask;
             });
@@ -73,8 +81,23 @@ public static class OpenApiSetup
                     return Task.CompletedTask;
                 }
 
-                var roles = metadata.OfType<IAuthorizeData>().Select(a => a.Policy).OfType<string>()
-                    .Where(Policies.All.ContainsKey).SelectMany(Policies.RolesOf).Distinct().ToArray();
+                var policies = metadata.OfType<IAuthorizeData>().Select(a => a.Policy).OfType<string>().ToArray();
+                var pagePolicies = policies.Where(Pages.PagePolicies.RolesFrom.ContainsKey).ToArray();
+                if (pagePolicies.Length > 0)
+                {
+                    // a page: the most restrictive of its group's and its own policies
+                    var admitted = pagePolicies.Select(p => Policies.RolesOf(Pages.PagePolicies.RolesFrom[p])).Aggregate((a, b) => [.. a.Intersect(b)]);
+                    operation.Security = [new OpenApiSecurityRequirement { [new OpenApiSecuritySchemeReference(CookieScheme, context.Document)] = [] }];
+                    operation.Extensions ??= new Dictionary<string, IOpenApiExtension>();
+                    operation.Extensions["x-roles"] = new JsonNodeExtension(new JsonArray(admitted.Select(r => (JsonNode)JsonValue.Create(r)).ToArray()));
+                    operation.Description = Append(operation.Description, $"Roles: {string.Join(", ", admitted)}.");
+                    operation.Responses ??= new OpenApiResponses();
+                    operation.Responses.TryAdd("302", new OpenApiResponse { Description = "Not signed in: to /sign-in (or, after a form, to the next page)." });
+                    operation.Responses.TryAdd("403", new OpenApiResponse { Description = $"Signed in with a role other than {string.Join(", ", admitted)}: the 'not allowed' page." });
+                    return Task.CompletedTask;
+                }
+
+                var roles = policies.Where(Policies.All.ContainsKey).SelectMany(Policies.RolesOf).Distinct().ToArray();
                 if (roles.Length == 0)
                 {
                     return Task.CompletedTask;

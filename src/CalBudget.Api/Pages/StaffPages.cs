@@ -1,0 +1,456 @@
+using System.Globalization;
+using System.Security.Claims;
+using System.Text.Json;
+using CalBudget.Api.Audit;
+using CalBudget.Api.Auth;
+using CalBudget.Api.Budgets;
+using CalBudget.Api.Calibrations;
+using CalBudget.Api.Certificates;
+using CalBudget.Api.Hosting;
+using CalBudget.Api.Instruments;
+using CalBudget.Api.References;
+using CalBudget.Core.Stability;
+using CalBudget.Data;
+using CalBudget.Data.Audit;
+using CalBudget.Data.Budgets;
+using CalBudget.Data.Calibrations;
+using CalBudget.Data.Certificates;
+using CalBudget.Data.Instruments;
+using CalBudget.Data.Keys;
+using Microsoft.AspNetCore.Authentication;
+using Microsoft.AspNetCore.Http.HttpResults;
+using Microsoft.AspNetCore.Http.Json;
+using Microsoft.Extensions.Options;
+
+namespace CalBudget.Api.Pages;
+
+/// <summary>The page policies: signed in with the staff cookie, with the roles of the API's policies.</summary>
+public static class PagePolicies
+{
+    /// <summary>Any signed-in person.</summary>
+    public const string Staff = "page-staff";
+
+    /// <summary>Technicians (and integrations).</summary>
+    public const string Writer = "page-writer";
+
+    /// <summary>Approvers.</summary>
+    public const string Approver = "page-approver";
+
+    /// <summary>Technicians, integrations and approvers.</summary>
+    public const string Issuer = "page-issuer";
+
+    /// <summary>Auditors and admins.</summary>
+    public const string Audit = "page-audit";
+
+    /// <summary>Each page policy and the API policy whose roles it takes.</summary>
+    public static IReadOnlyDictionary<string, string> RolesFrom { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
+    {
+        [Staff] = Policies.AnyRole,
+        [Writer] = Policies.Writer,
+        [Approver] = Policies.Approver,
+        [Issuer] = Policies.Issuer,
+        [Audit] = Policies.AuditReader,
+    };
+}
+
+/// <summary>
+/// The staff pages: Razor components rendered by Minimal API endpoints, plain HTML forms (no script), antiforgery on every
+/// POST, the cookie of a signed-in person. Every change goes through the same handler as the REST API, so the rules,
+/// the audit trail and the error messages are the same; the errors are shown next to their fields.
+/// </summary>
+public static class StaffPages
+{
+    /// <summary>The OpenAPI tag of the pages.</summary>
+    public const string Tag = "Staff pages";
+
+    /// <summary>Maps the pages; they are in the OpenAPI document under their own tag, with the cookie as their security.</summary>
+    public static IEndpointRouteBuilder MapStaffPages(this IEndpointRouteBuilder routes)
+    {
+        routes.MapGet("/static/site.css", (HttpResponse response) =>
+        {
+            response.Headers.CacheControl = "public, max-age=3600";
+            return Results.Text(StyleSheet.Value, "text/css; charset=utf-8");
+        }).AllowAnonymous().WithTags(Tag).WithSummary("The pages' style sheet").Produces(StatusCodes.Status200OK, contentType: "text/css");
+        var open = routes.MapGroup("").WithTags(Tag).AllowAnonymous();
+        open.MapGet("/sign-in", (string? returnUrl) => Page<SignIn>(new { ReturnUrl = returnUrl })).WithSummary("The sign-in page").Produces(StatusCodes.Status200OK, contentType: "text/html");
+        open.MapPost("/sign-in", SignInAsync).WithSummary("Sign in (form: name, password, returnUrl): 302 on success, the page with the reason (401) otherwise")
+            .Produces(StatusCodes.Status302Found).Produces(StatusCodes.Status401Unauthorized, contentType: "text/html");
+
+        var pages = routes.MapGroup("").WithTags(Tag).RequireAuthorization(PagePolicies.Staff)
+            .WithMetadata(new ProducesResponseTypeMetadata(StatusCodes.Status200OK, null, ["text/html"]))
+            .WithDescription("A staff page (HTML); without the staff cookie it redirects to /sign-in.");
+        pages.MapGet("/", () => Results.Redirect("/instruments"));
+        pages.MapPost("/sign-out", SignOutAsync);
+        pages.MapGet("/denied", (HttpContext http) => Page<Message>(new { Title = "Not allowed", Text = "Your role does not allow this.", http.User }, StatusCodes.Status403Forbidden));
+        pages.MapGet("/instruments", InstrumentsAsync);
+        pages.MapGet("/instruments/new", (HttpContext http) => Page<InstrumentNew>(new { http.User })).RequireAuthorization(PagePolicies.Writer);
+        pages.MapPost("/instruments/new", CreateInstrumentAsync).RequireAuthorization(PagePolicies.Writer);
+        pages.MapGet("/instruments/{id:long}", InstrumentAsync);
+        pages.MapGet("/instruments/{id:long}/runs/new", (long id, HttpContext http, InstrumentStore store, CalibrationRunStore runs, CalBudget.Data.References.ReferenceStandardStore references,
+            TimeProvider time, IOptions<JsonOptions> json, CancellationToken ct) => NewRunAsync(id, http, store, runs, references, time, json, ct)).RequireAuthorization(PagePolicies.Writer);
+        pages.MapPost("/instruments/{id:long}/runs/new", CreateRunAsync).RequireAuthorization(PagePolicies.Writer).DisableAntiforgery().WithMetadata(new Microsoft.AspNetCore.Antiforgery.RequireAntiforgeryTokenAttribute());
+        pages.MapGet("/runs/{id:long}", (long id, HttpContext http, CalibrationRunStore runs, ReadingStore readings, BudgetStore budgets, TemplateCatalog catalog,
+            IOptions<JsonOptions> json, CancellationToken ct) => RunAsync(id, http, runs, readings, budgets, catalog, json, ct));
+        pages.MapGet("/runs/{id:long}/stability.png", StabilityPngAsync);
+        pages.MapPost("/runs/{id:long}/budgets", BuildBudgetAsync).RequireAuthorization(PagePolicies.Writer);
+        pages.MapGet("/budgets/{id:long}", (long id, HttpContext http, BudgetStore budgets, CertificateStore certificates, IOptions<JsonOptions> json, CancellationToken ct) =>
+            BudgetAsync(id, http, budgets, certificates, json, ct));
+        pages.MapPost("/budgets/{id:long}/approve", ApproveAsync).RequireAuthorization(PagePolicies.Approver);
+        pages.MapPost("/budgets/{id:long}/certificates", IssueAsync).RequireAuthorization(PagePolicies.Issuer);
+        pages.MapGet("/certificates/{id:long}.pdf", async (long id, CertificateStore store, HttpResponse response, CancellationToken ct) =>
+            (await CertificatesApi.Pdf(id, store, response, ct)).Result);
+        pages.MapGet("/audit", AuditAsync).RequireAuthorization(PagePolicies.Audit);
+        return routes;
+    }
+
+    private static readonly Lazy<string> StyleSheet = new(() =>
+    {
+        using var stream = typeof(StaffPages).Assembly.GetManifestResourceStream("CalBudget.Api.Pages.site.css")!;
+        using var reader = new StreamReader(stream);
+        return reader.ReadToEnd();
+    });
+
+    private static RazorComponentResult<T> Page<T>(object parameters, int status = StatusCodes.Status200OK)
+        where T : Microsoft.AspNetCore.Components.IComponent => new(parameters) { StatusCode = status };
+
+    private static RazorComponentResult<Message> NotFound(HttpContext http, string what) =>
+        Page<Message>(new { Title = "Not found", Text = what, http.User }, StatusCodes.Status404NotFound);
+
+    private static bool Can(ClaimsPrincipal user, string apiPolicy) => Policies.RolesOf(apiPolicy).Any(user.IsInRole);
+
+    private static IDictionary<string, string[]>? ErrorsOf(IResult result) => result switch
+    {
+        ProblemHttpResult { ProblemDetails: HttpValidationProblemDetails v } => v.Errors,
+        ProblemHttpResult p => new Dictionary<string, string[]> { ["$"] = [p.ProblemDetails.Detail ?? p.ProblemDetails.Title ?? "Refused."] },
+        _ => null,
+    };
+
+    private static T? ValueOf<T>(IResult result) => result is IValueHttpResult<T> v ? v.Value : default;
+
+    private static Dictionary<string, string> Typed(IFormCollection form) =>
+        form.Where(f => !f.Key.StartsWith("__", StringComparison.Ordinal)).ToDictionary(f => f.Key, f => f.Value.ToString(), StringComparer.Ordinal);
+
+    private static async Task<IResult> SignInAsync(IFormCollection form, HttpContext http, UserAccounts accounts, CancellationToken ct)
+    {
+        string name = form["name"].ToString(), returnUrl = form["returnUrl"].ToString();
+        var (outcome, principal, lockedUntil) = await accounts.SignInAsync(name, form["password"].ToString(), ct);
+        if (outcome != SignInOutcome.Success)
+        {
+            string error = outcome == SignInOutcome.LockedOut
+                ? $"Too many failed attempts: the account is locked until {lockedUntil:HH:mm} UTC."
+                : "The name or the password is not right.";
+            return Page<SignIn>(new { Error = error, Name = name, ReturnUrl = returnUrl }, StatusCodes.Status401Unauthorized);
+        }
+
+        await http.SignInAsync(UserAccounts.CookieScheme, principal!);
+        // only a local path: never an open redirect
+        return Results.Redirect(returnUrl.StartsWith('/') && !returnUrl.StartsWith("//", StringComparison.Ordinal) && !returnUrl.StartsWith("/\\", StringComparison.Ordinal)
+            ? returnUrl : "/instruments");
+    }
+
+    private static async Task<IResult> SignOutAsync(IFormCollection form, HttpContext http)
+    {
+        _ = form;
+        await http.SignOutAsync(UserAccounts.CookieScheme);
+        return Results.Redirect("/sign-in");
+    }
+
+    private static async Task<IResult> InstrumentsAsync(string? q, HttpContext http, InstrumentStore store, IOptions<JsonOptions> json, CancellationToken ct)
+    {
+        var page = (await InstrumentsApi.List(store, json, 200, null, null, null, string.IsNullOrWhiteSpace(q) ? null : q.Trim(), false, ct)).Result;
+        return Page<InstrumentList>(new { Items = ValueOf<Page<InstrumentDto>>(page)?.Items ?? [], Query = q, CanWrite = Can(http.User, Policies.Writer), http.User });
+    }
+
+    private static async Task<IResult> CreateInstrumentAsync(IFormCollection form, HttpContext http, IDbConnectionFactory database, TimeProvider time,
+        IOptions<JsonOptions> json, CancellationToken ct)
+    {
+        var values = Typed(form);
+        var errors = new Dictionary<string, string[]>(StringComparer.Ordinal);
+        double? Number(string field)
+        {
+            string text = values.GetValueOrDefault(field, "").Trim();
+            if (text.Length == 0)
+            {
+                return null;
+            }
+
+            if (double.TryParse(text, NumberStyles.Float, CultureInfo.InvariantCulture, out double v))
+            {
+                return v;
+            }
+
+            errors[InstrumentNew.ApiField(field)] = [$"Not a number: '{text}' (write it like 1e-9 or 10000000)."];
+            return null;
+        }
+
+        double? nominal = Number("nominalFrequencyHz"), tolerance = Number("toleranceHalfWidth"), gamma = Number("accelerationSensitivityPerG"),
+            temperature = Number("temperatureCoefficientPerKelvin"), aging = Number("agingPerDay"), retrace = Number("retrace");
+        if (errors.Count == 0)
+        {
+            string? Text(string f) => values.GetValueOrDefault(f) is { Length: > 0 } t ? t : null;
+            var request = new InstrumentRequest(Text("assetNumber"), Text("customer"), Text("manufacturer"), Text("model"), Text("serialNumber") ?? "", "",
+                new TimebaseDto(Text("oscillatorKind"), nominal,
+                    new TimebaseSpecificationDto(tolerance is { } t ? new ToleranceDto(-t, t, null) : null, aging, null, temperature, null, gamma, null, retrace)),
+                [new PostureDto("standing on its feet", JsonSerializer.SerializeToElement("+z"))]);
+            var result = await InstrumentsApi.Create(request, http, database, time, json, null, ct);
+            if (ValueOf<InstrumentDto>(result) is { } created)
+            {
+                return Results.Redirect($"/instruments/{created.Id}");
+            }
+
+            foreach (var (field, messages) in ErrorsOf(result) ?? new Dictionary<string, string[]>())
+            {
+                errors[field.Replace("timebase.specification.tolerance.lower", "timebase.specification.tolerance.upper", StringComparison.Ordinal)] = messages;
+            }
+        }
+
+        return Page<InstrumentNew>(new { Values = values, Errors = errors, http.User }, StatusCodes.Status400BadRequest);
+    }
+
+    private static async Task<IResult> InstrumentAsync(long id, HttpContext http, InstrumentStore store, CalibrationRunStore runs, BudgetStore budgets,
+        CertificateStore certificates, IOptions<JsonOptions> json, CancellationToken ct)
+    {
+        if (ValueOf<InstrumentDto>((await InstrumentsApi.Get(id, store, runs, json, http.Response, ct)).Result) is not { } instrument)
+        {
+            return NotFound(http, $"No instrument has the id {id}.");
+        }
+
+        var runList = ValueOf<Page<CalibrationRunDto>>((await CalibrationsApi.List(runs, 200, null, id, null, null, false, ct)).Result)?.Items ?? [];
+        var budgetList = new List<BudgetDto>();
+        foreach (var r in runList)
+        {
+            budgetList.AddRange(ValueOf<Page<BudgetDto>>((await StoredBudgetsApi.List(budgets, json, 200, null, r.Id, ct)).Result)?.Items ?? []);
+        }
+
+        var certs = ValueOf<Page<CertificateDto>>((await CertificatesApi.List(certificates, json, 200, null, id, null, ct)).Result)?.Items ?? [];
+        return Page<InstrumentDetail>(new { Instrument = instrument, Runs = runList.OrderByDescending(r => r.StartedAt).ToArray(), Budgets = budgetList, Certificates = certs, CanWrite = Can(http.User, Policies.Writer), http.User });
+    }
+
+    private static async Task<IResult> NewRunAsync(long id, HttpContext http, InstrumentStore store, CalibrationRunStore runs, CalBudget.Data.References.ReferenceStandardStore references,
+        TimeProvider time, IOptions<JsonOptions> json, CancellationToken ct, IReadOnlyDictionary<string, string>? values = null, IDictionary<string, string[]>? errors = null)
+    {
+        if (ValueOf<InstrumentDto>((await InstrumentsApi.Get(id, store, runs, json, http.Response, ct)).Result) is not { } instrument)
+        {
+            return NotFound(http, $"No instrument has the id {id}.");
+        }
+
+        var refs = ValueOf<Page<ReferenceStandardDto>>((await ReferencesApi.List(references, time, 200, null, null, null, false, ct)).Result)?.Items ?? [];
+        return Page<RunNew>(new { Instrument = instrument, References = refs, Values = values ?? new Dictionary<string, string>(), Errors = errors, http.User },
+            errors is null ? StatusCodes.Status200OK : StatusCodes.Status400BadRequest);
+    }
+
+    private static async Task<IResult> CreateRunAsync(long id, HttpContext http, IDbConnectionFactory database, TimeProvider time, InstrumentStore store, CalibrationRunStore runs,
+        CalBudget.Data.References.ReferenceStandardStore references, IOptions<JsonOptions> json, IOptions<CalBudgetOptions> options, CancellationToken ct)
+    {
+        var form = await http.Request.ReadFormAsync(ct);
+        var values = Typed(form);
+        var errors = new Dictionary<string, string[]>(StringComparer.Ordinal);
+        double? Number(string field, string api)
+        {
+            string text = values.GetValueOrDefault(field, "").Trim();
+            if (text.Length == 0)
+            {
+                return null;
+            }
+
+            if (double.TryParse(text, NumberStyles.Float, CultureInfo.InvariantCulture, out double v))
+            {
+                return v;
+            }
+
+            errors[api] = [$"Not a number: '{text}'."];
+            return null;
+        }
+
+        double? resolution = Number("resolution", "comparator.resolution"), gate = Number("gate", "gateTimeSeconds"), temperature = Number("temperature", "environment.temperatureCelsius");
+        DateTimeOffset? started = null;
+        if (values.GetValueOrDefault("startedAt", "").Trim() is { Length: > 0 } s)
+        {
+            if (DateTimeOffset.TryParse(s, CultureInfo.InvariantCulture, DateTimeStyles.AssumeUniversal | DateTimeStyles.AdjustToUniversal, out var t))
+            {
+                started = t;
+            }
+            else
+            {
+                errors["startedAt"] = [$"Not a time: '{s}' (write 2026-12-01T09:00:00Z)."];
+            }
+        }
+
+        var file = form.Files.GetFile("readings");
+        if (file is null || file.Length == 0)
+        {
+            errors["body"] = ["Choose the CSV file of the counter's readings."];
+        }
+
+        if (errors.Count == 0)
+        {
+            var request = new CalibrationRunRequest(id, long.TryParse(values.GetValueOrDefault("referenceId"), CultureInfo.InvariantCulture, out long r) ? r : null,
+                new ComparatorDto(values.GetValueOrDefault("comparator"), resolution), gate, new RunPostureDto(values.GetValueOrDefault("posture"), null),
+                new EnvironmentDto(temperature, null, null, null), values.GetValueOrDefault("condition", "as-found"), started, null, null);
+            var created = await CalibrationsApi.Create(request, http, database, time, json, null, ct);
+            if (ValueOf<CalibrationRunDto>(created) is { } run)
+            {
+                await using var stream = file!.OpenReadStream();
+                var upload = await ReadingsApi.UploadAsync(run.Id, null, "text/csv", stream, http, database, time, json, options, null, ct);
+                if (ErrorsOf(upload) is { } uploadErrors)
+                {
+                    // the run stays recorded (its creation is in the audit trail); the readings can be uploaded again on its page
+                    return Page<Message>(new { Title = $"Run {run.Id} recorded, readings refused", Text = string.Join(" ", uploadErrors.Select(e => $"{e.Key}: {string.Join(" ", e.Value)}")), http.User },
+                        StatusCodes.Status400BadRequest);
+                }
+
+                return Results.Redirect($"/runs/{run.Id}");
+            }
+
+            foreach (var (field, messages) in ErrorsOf(created) ?? new Dictionary<string, string[]>())
+            {
+                errors[field] = messages;
+            }
+        }
+
+        return await NewRunAsync(id, http, store, runs, references, time, json, ct, values, errors);
+    }
+
+    private static async Task<double[]> ReadingsAsync(long runId, ReadingStore readings, CancellationToken ct)
+    {
+        var values = new List<double>();
+        if (await readings.LatestAsync(runId, ct) is { } upload)
+        {
+            await foreach (var r in readings.ReadingsAsync(upload.Id, ct))
+            {
+                values.Add(r.FractionalOffset);
+            }
+        }
+
+        return [.. values];
+    }
+
+    private static async Task<IResult> RunAsync(long id, HttpContext http, CalibrationRunStore runs, ReadingStore readings, BudgetStore budgets, TemplateCatalog catalog,
+        IOptions<JsonOptions> json, CancellationToken ct, IReadOnlyDictionary<string, string>? values = null, IDictionary<string, string[]>? errors = null)
+    {
+        if (ValueOf<CalibrationRunDto>((await CalibrationsApi.Get(id, runs, http.Response, ct)).Result) is not { } run)
+        {
+            return NotFound(http, $"No calibration run has the id {id}.");
+        }
+
+        var y = await ReadingsAsync(id, readings, ct);
+        var points = new List<RunDetail.Point>();
+        if (y.Length >= 3)
+        {
+            var analysis = StabilityAnalysis.Analyse(y, StabilityDataType.Frequency, run.GateTimeSeconds, [StabilityStatistic.Oadev]);
+            foreach (var p in analysis.Results[StabilityStatistic.Oadev])
+            {
+                var noise = analysis.Noise.FirstOrDefault(n => n.AveragingFactor == p.AveragingFactor)?.Alpha;
+                points.Add(new RunDetail.Point(p.Tau, p.Deviation, p.DegreesOfFreedom, noise is { } a ? NoiseType.Name(a) : "not identified"));
+            }
+        }
+
+        var list = ValueOf<Page<BudgetDto>>((await StoredBudgetsApi.List(budgets, json, 200, null, id, ct)).Result)?.Items ?? [];
+        return Page<RunDetail>(new
+        {
+            Run = run, Points = points, Budgets = list, Templates = StoredBudgetsApi.Templates(catalog).Value ?? [], CanWrite = Can(http.User, Policies.Writer),
+            Values = values ?? new Dictionary<string, string>(), Errors = errors, http.User,
+        }, errors is null ? StatusCodes.Status200OK : StatusCodes.Status400BadRequest);
+    }
+
+    private static async Task<IResult> StabilityPngAsync(long id, CalibrationRunStore runs, ReadingStore readings, CertificateSetup setup, CancellationToken ct)
+    {
+        if (await runs.GetAsync(id, ct) is not { } run)
+        {
+            return Results.NotFound();
+        }
+
+        var y = await ReadingsAsync(id, readings, ct);
+        var data = new Reports.StabilityPlot("", [], [], [], [], "");
+        if (y.Length >= 3)
+        {
+            var points = StabilityAnalysis.Analyse(y, StabilityDataType.Frequency, run.Fields.GateTimeSeconds, [StabilityStatistic.Oadev]).Results[StabilityStatistic.Oadev]
+                .Where(p => p.Deviation > 0).ToArray();
+            data = new Reports.StabilityPlot("", points.Select(p => p.Tau).ToArray(), points.Select(p => p.Deviation).ToArray(),
+                points.Select(p => p.Interval.Low).ToArray(), points.Select(p => p.Interval.High).ToArray(), "");
+        }
+
+        return Results.File(Reports.CertificatePlots.Stability(data, setup.Fonts.Family, 250, 150), "image/png");
+    }
+
+    private static async Task<IResult> BuildBudgetAsync(long id, IFormCollection form, HttpContext http, IDbConnectionFactory database, TimeProvider time, TemplateCatalog catalog,
+        CalibrationRunStore runs, ReadingStore readings, BudgetStore budgets, IOptions<JsonOptions> json, IOptions<CalBudgetOptions> options, CancellationToken ct)
+    {
+        var values = Typed(form);
+        string posture = values.GetValueOrDefault("posture", "as-calibrated");
+        double? tilt = double.TryParse(values.GetValueOrDefault("tilt"), NumberStyles.Float, CultureInfo.InvariantCulture, out double t) ? t : null;
+        var request = new BudgetBuildRequest(id, values.GetValueOrDefault("templateId"), new PosturePolicyDto(posture, null, posture == "tilt-limit" ? tilt : null), null, null);
+        var result = await StoredBudgetsApi.Create(request, http, database, time, catalog, readings, json, options, ct);
+        if (ValueOf<BudgetDto>(result) is { } created)
+        {
+            return Results.Redirect($"/budgets/{created.Id}");
+        }
+
+        return await RunAsync(id, http, runs, readings, budgets, catalog, json, ct, values, ErrorsOf(result) ?? new Dictionary<string, string[]>());
+    }
+
+    private static async Task<IResult> BudgetAsync(long id, HttpContext http, BudgetStore budgets, CertificateStore certificates, IOptions<JsonOptions> json, CancellationToken ct,
+        IReadOnlyDictionary<string, string>? values = null, IDictionary<string, string[]>? errors = null)
+    {
+        if (ValueOf<BudgetDto>((await StoredBudgetsApi.Get(id, budgets, json, http.Response, ct)).Result) is not { } budget)
+        {
+            return NotFound(http, $"No budget has the id {id}.");
+        }
+
+        var versions = ValueOf<BudgetVersionSummaryDto[]>((await StoredBudgetsApi.Versions(id, budgets, json, ct)).Result) ?? [];
+        var run = budget.RunId;
+        var certs = (ValueOf<Page<CertificateDto>>((await CertificatesApi.List(certificates, json, 200, null, null, null, ct)).Result)?.Items ?? [])
+            .Where(c => c.BudgetId == id).ToArray();
+        return Page<BudgetDetail>(new
+        {
+            Budget = budget, Versions = versions, Certificates = certs, CanApprove = Can(http.User, Policies.Approver), CanIssue = Can(http.User, Policies.Issuer),
+            Values = values ?? new Dictionary<string, string>(), Errors = errors, http.User,
+        }, errors is null ? StatusCodes.Status200OK : StatusCodes.Status400BadRequest);
+    }
+
+    private static async Task<IResult> ApproveAsync(long id, IFormCollection form, HttpContext http, IDbConnectionFactory database, TimeProvider time, BudgetStore budgets,
+        CertificateStore certificates, IOptions<JsonOptions> json, CancellationToken ct)
+    {
+        int number = int.TryParse(form["version"], CultureInfo.InvariantCulture, out int n) ? n : 0;
+        var result = (await StoredBudgetsApi.Approve(id, number, new ApprovalRequest(form["meaning"].ToString() is { Length: > 0 } m ? m : null), http, database, time, json, ct)).Result;
+        return ErrorsOf(result) is { } errors ? await BudgetAsync(id, http, budgets, certificates, json, ct, Typed(form), errors) : Results.Redirect($"/budgets/{id}");
+    }
+
+    private static async Task<IResult> IssueAsync(long id, IFormCollection form, HttpContext http, IDbConnectionFactory database, TimeProvider time, CertificateSetup setup,
+        ReadingStore readings, BudgetStore budgets, CertificateStore certificates, IOptions<JsonOptions> json, IOptions<CalBudgetOptions> options, CancellationToken ct)
+    {
+        var values = Typed(form);
+        var errors = new Dictionary<string, string[]>(StringComparer.Ordinal);
+        DateTimeOffset? received = DateTimeOffset.TryParseExact(values.GetValueOrDefault("receivedAt", "").Trim(), "yyyy-MM-dd", CultureInfo.InvariantCulture,
+            DateTimeStyles.AssumeUniversal, out var r) ? r : null;
+        if (received is null && values.GetValueOrDefault("receivedAt", "").Trim().Length > 0)
+        {
+            errors["receivedAt"] = ["Write the date as YYYY-MM-DD."];
+        }
+
+        if (errors.Count == 0)
+        {
+            int version = int.TryParse(values.GetValueOrDefault("version"), CultureInfo.InvariantCulture, out int v) ? v : 0;
+            string rule = values.GetValueOrDefault("rule", "");
+            var request = new CertificateIssueRequest(id, version, received, values.GetValueOrDefault("itemCondition") is { Length: > 0 } c ? c : null, null, false, null, null, null,
+                rule.Length > 0 ? new DecisionRuleRequest(rule, null) : null, null, null);
+            var result = await CertificatesApi.Issue(request, http, database, time, setup, readings, json, options, ct);
+            if (ValueOf<CertificateDto>(result) is { } issued)
+            {
+                return Results.Redirect($"/budgets/{id}#certificate-{issued.Id}");
+            }
+
+            errors = new Dictionary<string, string[]>(ErrorsOf(result) ?? new Dictionary<string, string[]>(), StringComparer.Ordinal);
+        }
+
+        return await BudgetAsync(id, http, budgets, certificates, json, ct, values, errors);
+    }
+
+    private static async Task<IResult> AuditAsync(string? entityType, string? actor, string? verify, HttpContext http, AuditLog log, CancellationToken ct)
+    {
+        var page = ValueOf<Page<AuditEntryDto>>((await AuditApi.List(log, 200, null, string.IsNullOrEmpty(entityType) ? null : entityType, null,
+            string.IsNullOrEmpty(actor) ? null : actor, null, null, ct)).Result);
+        AuditVerificationDto? verification = verify == "1" ? (await AuditApi.Verify(log, ct)).Value : null;
+        return Page<AuditPage>(new { Entries = page?.Items ?? [], EntityType = entityType, Actor = actor, Verification = verification, http.User });
+    }
+}
