@@ -31,6 +31,15 @@ public sealed partial class PageRoleMatrixTests : IDisposable
         ("GET", "/instruments/new", "/instruments/new", Writers),
         ("POST", "/instruments/new", "/instruments/new", Writers),
         ("GET", "/instruments/{id:long}", "/instruments/999", Everyone),
+        ("GET", "/instruments/{id:long}/edit", "/instruments/999/edit", Writers),
+        ("POST", "/instruments/{id:long}/edit", "/instruments/999/edit", Writers),
+        ("GET", "/references", "/references", Everyone),
+        ("GET", "/admin", "/admin", [D]),
+        ("POST", "/admin/users", "/admin/users", [D]),
+        ("POST", "/admin/keys", "/admin/keys", [D]),
+        ("POST", "/admin/keys/revoke", "/admin/keys/revoke", [D]),
+        ("POST", "/budgets/{id:long}/versions", "/budgets/999/versions", Writers),
+        ("GET", "/budgets/{id:long}/diff", "/budgets/999/diff?from=1&to=2", Everyone),
         ("GET", "/instruments/{id:long}/runs/new", "/instruments/999/runs/new", Writers),
         ("POST", "/instruments/{id:long}/runs/new", "/instruments/999/runs/new", Writers),
         ("GET", "/runs/{id:long}", "/runs/999", Everyone),
@@ -138,6 +147,71 @@ public sealed partial class PageRoleMatrixTests : IDisposable
         var forged = await signedIn.PostAsync("/instruments/new", new FormUrlEncodedContent(new Dictionary<string, string> { ["assetNumber"] = "CB-0999" }));
         Assert.Equal(HttpStatusCode.BadRequest, forged.StatusCode);
         Assert.DoesNotContain("CB-0999", await signedIn.GetStringAsync("/instruments"), StringComparison.Ordinal);
+    }
+
+    [GeneratedRegex("first password, shown once: ([A-Za-z0-9_-]+)")]
+    private static partial Regex PasswordPattern();
+
+    [Fact]
+    public async Task AnAdminAddsAPersonWhoCanThenSignInAndMakesAndRevokesAKey()
+    {
+        var admin = await SignedInAsync(D);
+        string token = await TokenAsync(admin, "/admin");
+        var added = await admin.PostAsync("/admin/users", new FormUrlEncodedContent(new Dictionary<string, string>
+        {
+            ["__RequestVerificationToken"] = token, ["name"] = "new.technician", ["role"] = T,
+        }));
+        string page = await added.Content.ReadAsStringAsync();
+        string password = PasswordPattern().Match(page).Groups[1].Value;
+        Assert.True(password.Length >= 12, page);
+        var client = Browser();
+        var signIn = await client.PostAsync("/sign-in", new FormUrlEncodedContent(new Dictionary<string, string>
+        {
+            ["__RequestVerificationToken"] = await TokenAsync(client, "/sign-in"), ["name"] = "new.technician", ["password"] = password,
+        }));
+        Assert.Equal(HttpStatusCode.Redirect, signIn.StatusCode);
+        var again = await admin.PostAsync("/admin/users", new FormUrlEncodedContent(new Dictionary<string, string>
+        {
+            ["__RequestVerificationToken"] = token, ["name"] = "new.technician", ["role"] = T,
+        }));
+        Assert.Equal(HttpStatusCode.BadRequest, again.StatusCode);
+        Assert.Contains("exists already", await again.Content.ReadAsStringAsync(), StringComparison.Ordinal);
+
+        var made = await admin.PostAsync("/admin/keys", new FormUrlEncodedContent(new Dictionary<string, string>
+        {
+            ["__RequestVerificationToken"] = token, ["name"] = "bench-9", ["role"] = I,
+        }));
+        string key = Regex.Match(await made.Content.ReadAsStringAsync(), "shown once: (cbk_[A-Za-z0-9_-]+)").Groups[1].Value;
+        var keyed = _factory.ClientWithKey(key);
+        Assert.Equal(HttpStatusCode.OK, (await keyed.GetAsync("/api/v1/instruments")).StatusCode);
+        await admin.PostAsync("/admin/keys/revoke", new FormUrlEncodedContent(new Dictionary<string, string> { ["__RequestVerificationToken"] = token, ["name"] = "bench-9" }));
+        Assert.NotNull((await _factory.Keys.ListAsync()).Single(k => k.Name == "bench-9").RevokedAt);
+    }
+
+    [Fact]
+    public async Task AnEditMadeFromAStaleFormIsRefusedAndKeepsWhatWasTyped()
+    {
+        var tech = await SignedInAsync(T);
+        var keyed = await _factory.ClientAsync(T);
+        var created = await keyed.PostAsync("/api/v1/instruments", Json.Body("""
+            { "assetNumber": "CB-0555", "customer": "Harbour Test House", "manufacturer": "Vexmoor Electronics", "model": "SA-7",
+              "timebase": { "oscillatorKind": "OCXO", "nominalFrequencyHz": 10000000 }, "postures": [ { "name": "standing on its feet", "up": "+z" } ] }
+            """));
+        long id = (await Json.ReadAsync(created, HttpStatusCode.Created))["id"]!.GetValue<long>();
+        string token = await TokenAsync(tech, $"/instruments/{id}/edit");
+        var form = new Dictionary<string, string>
+        {
+            ["__RequestVerificationToken"] = token, ["version"] = "1", ["assetNumber"] = "CB-0555", ["customer"] = "Harbour Test House Ltd",
+            ["manufacturer"] = "Vexmoor Electronics", ["model"] = "SA-7", ["nominalFrequencyHz"] = "10000000", ["oscillatorKind"] = "OCXO",
+        };
+        Assert.Equal(HttpStatusCode.Redirect, (await tech.PostAsync($"/instruments/{id}/edit", new FormUrlEncodedContent(form))).StatusCode);
+        Assert.Contains("Harbour Test House Ltd", await tech.GetStringAsync($"/instruments/{id}"), StringComparison.Ordinal);
+        form["customer"] = "Harbour Test House (stale)";
+        var stale = await tech.PostAsync($"/instruments/{id}/edit", new FormUrlEncodedContent(form));
+        Assert.Equal(HttpStatusCode.BadRequest, stale.StatusCode);
+        string html = await stale.Content.ReadAsStringAsync();
+        Assert.Contains("Harbour Test House (stale)", html, StringComparison.Ordinal);
+        Assert.Contains("Nothing was saved", html, StringComparison.Ordinal);
     }
 
     [Fact]

@@ -111,9 +111,24 @@ public sealed class StaffPathTests(BrowserHost host) : IClassFixture<BrowserHost
         string budgetUrl = tech.Url;
         await Assertions.Expect(tech.GetByRole(AriaRole.Button, new() { Name = "Approve" })).ToHaveCountAsync(0); // not an approver
 
+        // a change is a new version with a reason; an override needs its own reason
+        await tech.GetByLabel("Contribution", new() { Exact = true }).SelectOptionAsync("retrace");
+        await tech.GetByLabel("Standard uncertainty (normal)").FillAsync("1.5e-9");
+        await tech.GetByRole(AriaRole.Button, new() { Name = "Make the new version" }).ClickAsync();
+        await Assertions.Expect(tech.Locator("#reason-error")).ToBeVisibleAsync();
+        await Assertions.Expect(tech.GetByLabel("Standard uncertainty (normal)")).ToHaveValueAsync("1.5e-9");
+        await tech.GetByLabel("Why (required)").FillAsync("retrace measured on this unit after transport");
+        await tech.GetByLabel("Why this value").FillAsync("retrace test of 2026-11-29, three cycles");
+        await tech.GetByRole(AriaRole.Button, new() { Name = "Make the new version" }).ClickAsync();
+        await Assertions.Expect(tech.GetByRole(AriaRole.Heading, new() { Name = "Budget 1, version 2" })).ToBeVisibleAsync();
+        await tech.GetByRole(AriaRole.Button, new() { Name = "Show the differences" }).ClickAsync();
+        await Assertions.Expect(tech.Locator("tr.change-changed")).ToContainTextAsync("retrace");
+        await ShotAsync(tech, "diff");
+
         var (approverName, _, approverPassword) = BrowserHost.Staff[1];
         var approver = await SignInAsync(approverName, approverPassword);
         await approver.GotoAsync(budgetUrl);
+        await Assertions.Expect(approver.GetByRole(AriaRole.Heading, new() { Name = "Approve version 2" })).ToBeVisibleAsync();
         await approver.GetByRole(AriaRole.Button, new() { Name = "Approve" }).ClickAsync();
         await Assertions.Expect(approver.Locator(".state")).ToHaveTextAsync("approved");
         await ShotAsync(approver, "budget");
@@ -137,11 +152,11 @@ public sealed class StaffPathTests(BrowserHost host) : IClassFixture<BrowserHost
         var auditor = await SignInAsync(auditorName, auditorPassword);
         await auditor.GotoAsync(budgetUrl);
         await Assertions.Expect(auditor.Locator(".state")).ToHaveTextAsync("approved");
-        await Assertions.Expect(auditor.Locator("form button")).ToHaveTextAsync("Sign out"); // no change control at all
+        await Assertions.Expect(auditor.Locator("form[method=post] button")).ToHaveTextAsync("Sign out"); // no change control at all
         // the server refuses what the page does not offer: an approval posted with a valid antiforgery token from the auditor's own page
         var token = await auditor.Locator("input[name=__RequestVerificationToken]").First.GetAttributeAsync("value");
         var refused = await auditor.Context.APIRequest.PostAsync(budgetUrl.Replace("/budgets/", "/budgets/", StringComparison.Ordinal) + "/approve",
-            new APIRequestContextOptions { Form = auditor.Context.APIRequest.CreateFormData().Set("__RequestVerificationToken", token!).Set("version", "1"), MaxRedirects = 0 });
+            new APIRequestContextOptions { Form = auditor.Context.APIRequest.CreateFormData().Set("__RequestVerificationToken", token!).Set("version", "2"), MaxRedirects = 0 });
         Assert.True(refused.Status is 302 or 403, $"auditor approve: {refused.Status}");
         Assert.True(refused.Status == 403 || (refused.Headers.GetValueOrDefault("location") ?? "").Contains("/denied", StringComparison.Ordinal));
         await auditor.GotoAsync("/audit");
@@ -149,6 +164,10 @@ public sealed class StaffPathTests(BrowserHost host) : IClassFixture<BrowserHost
         await Assertions.Expect(auditor.GetByRole(AriaRole.Status)).ToContainTextAsync("Intact");
         await Assertions.Expect(auditor.Locator("table")).ToContainTextAsync("approve");
         await ShotAsync(auditor, "audit");
+        await auditor.GotoAsync("/references");
+        await Assertions.Expect(auditor.Locator("table")).ToContainTextAsync("in use");
+        await auditor.GotoAsync("/admin");
+        await Assertions.Expect(auditor.GetByRole(AriaRole.Heading, new() { Name = "Not allowed" })).ToBeVisibleAsync();
 
         // a narrow screen keeps the page usable
         await auditor.SetViewportSizeAsync(390, 800);

@@ -43,8 +43,9 @@ public sealed class UserAccounts(UserStore store, TimeProvider time)
         ("admin", Roles.Admin, "demo-admin-password"),
     ];
 
-    /// <summary>Creates an account; returns null when the name is taken. The password must be 12 to 200 characters.</summary>
-    public async Task<string?> CreateAsync(string name, string role, string password, bool isDemo = false, CancellationToken ct = default)
+    /// <summary>Creates an account (audited as made by <paramref name="actor"/>); returns null when the name is taken. The password must be 12 to 200 characters.</summary>
+    public async Task<string?> CreateAsync(string name, string role, string password, bool isDemo = false, string actor = ApiKeyStore.CommandLineActor,
+        CancellationToken ct = default)
     {
         if (string.IsNullOrWhiteSpace(name) || name.Length > 100 || name.Any(char.IsControl))
         {
@@ -62,7 +63,7 @@ public sealed class UserAccounts(UserStore store, TimeProvider time)
         }
 
         string hash = Hasher.HashPassword(null!, password);
-        return await store.CreateAsync(name.Trim(), role, hash, isDemo, time.GetUtcNow(), ct) ? name.Trim() : null;
+        return await store.CreateAsync(name.Trim(), role, hash, isDemo, time.GetUtcNow(), actor, ct) ? name.Trim() : null;
     }
 
     /// <summary>A random password of 20 characters (about 120 bits).</summary>

@@ -41,7 +41,7 @@ public static class DatabaseStartup
             var users = services.GetRequiredService<Auth.UserAccounts>();
             foreach (var (name, role, password) in Auth.UserAccounts.DemoUsers)
             {
-                await users.CreateAsync(name, role, password, isDemo: true, ct);
+                await users.CreateAsync(name, role, password, isDemo: true, actor: "demo-seed", ct: ct);
             }
 
             await DemoData.SeedAsync(services, ct);

@@ -42,6 +42,9 @@ public static class PagePolicies
     /// <summary>Auditors and admins.</summary>
     public const string Audit = "page-audit";
 
+    /// <summary>Admins.</summary>
+    public const string Admin = "page-admin";
+
     /// <summary>Each page policy and the API policy whose roles it takes.</summary>
     public static IReadOnlyDictionary<string, string> RolesFrom { get; } = new Dictionary<string, string>(StringComparer.Ordinal)
     {
@@ -50,6 +53,7 @@ public static class PagePolicies
         [Approver] = Policies.Approver,
         [Issuer] = Policies.Issuer,
         [Audit] = Policies.AuditReader,
+        [Admin] = Policies.Admin,
     };
 }
 
@@ -86,6 +90,19 @@ public static class StaffPages
         pages.MapGet("/instruments/new", (HttpContext http) => Page<InstrumentNew>(new { http.User })).RequireAuthorization(PagePolicies.Writer);
         pages.MapPost("/instruments/new", CreateInstrumentAsync).RequireAuthorization(PagePolicies.Writer);
         pages.MapGet("/instruments/{id:long}", InstrumentAsync);
+        pages.MapGet("/instruments/{id:long}/edit", EditInstrumentFormAsync).RequireAuthorization(PagePolicies.Writer);
+        pages.MapPost("/instruments/{id:long}/edit", EditInstrumentAsync).RequireAuthorization(PagePolicies.Writer);
+        pages.MapGet("/references", async (HttpContext http, CalBudget.Data.References.ReferenceStandardStore store, TimeProvider time, CancellationToken ct) =>
+            Page<ReferenceList>(new
+            {
+                Items = ValueOf<Page<ReferenceStandardDto>>((await ReferencesApi.List(store, time, 200, null, null, null, true, ct)).Result)?.Items ?? [],
+                Now = time.GetUtcNow(), http.User,
+            }));
+        pages.MapGet("/admin", (HttpContext http, Data.Users.UserStore users, ApiKeyStore keys, CancellationToken ct) => AdminAsync(http, users, keys, null, null, ct))
+            .RequireAuthorization(PagePolicies.Admin);
+        pages.MapPost("/admin/users", AddUserAsync).RequireAuthorization(PagePolicies.Admin);
+        pages.MapPost("/admin/keys", AddKeyAsync).RequireAuthorization(PagePolicies.Admin);
+        pages.MapPost("/admin/keys/revoke", RevokeKeyAsync).RequireAuthorization(PagePolicies.Admin);
         pages.MapGet("/instruments/{id:long}/runs/new", (long id, HttpContext http, InstrumentStore store, CalibrationRunStore runs, CalBudget.Data.References.ReferenceStandardStore references,
             TimeProvider time, IOptions<JsonOptions> json, CancellationToken ct) => NewRunAsync(id, http, store, runs, references, time, json, ct)).RequireAuthorization(PagePolicies.Writer);
         pages.MapPost("/instruments/{id:long}/runs/new", CreateRunAsync).RequireAuthorization(PagePolicies.Writer).DisableAntiforgery().WithMetadata(new Microsoft.AspNetCore.Antiforgery.RequireAntiforgeryTokenAttribute());
@@ -95,6 +112,8 @@ public static class StaffPages
         pages.MapPost("/runs/{id:long}/budgets", BuildBudgetAsync).RequireAuthorization(PagePolicies.Writer);
         pages.MapGet("/budgets/{id:long}", (long id, HttpContext http, BudgetStore budgets, CertificateStore certificates, IOptions<JsonOptions> json, CancellationToken ct) =>
             BudgetAsync(id, http, budgets, certificates, json, ct));
+        pages.MapPost("/budgets/{id:long}/versions", ReviseAsync).RequireAuthorization(PagePolicies.Writer);
+        pages.MapGet("/budgets/{id:long}/diff", DiffAsync);
         pages.MapPost("/budgets/{id:long}/approve", ApproveAsync).RequireAuthorization(PagePolicies.Approver);
         pages.MapPost("/budgets/{id:long}/certificates", IssueAsync).RequireAuthorization(PagePolicies.Issuer);
         pages.MapGet("/certificates/{id:long}.pdf", async (long id, CertificateStore store, HttpResponse response, CancellationToken ct) =>
@@ -165,6 +184,78 @@ public static class StaffPages
         IOptions<JsonOptions> json, CancellationToken ct)
     {
         var values = Typed(form);
+        var (request, errors) = InstrumentFromForm(values, null);
+        if (errors.Count == 0)
+        {
+            var result = await InstrumentsApi.Create(request!, http, database, time, json, null, ct);
+            if (ValueOf<InstrumentDto>(result) is { } created)
+            {
+                return Results.Redirect($"/instruments/{created.Id}");
+            }
+
+            foreach (var (field, messages) in ErrorsOf(result) ?? new Dictionary<string, string[]>())
+            {
+                errors[field.Replace("timebase.specification.tolerance.lower", "timebase.specification.tolerance.upper", StringComparison.Ordinal)] = messages;
+            }
+        }
+
+        return Page<InstrumentNew>(new { Values = values, Errors = errors, http.User }, StatusCodes.Status400BadRequest);
+    }
+
+    // the form's fields from a stored instrument
+    private static Dictionary<string, string> FormOf(InstrumentDto i)
+    {
+        var spec = i.Timebase.Specification;
+        string N(double? v) => v is { } x ? x.ToString("R", CultureInfo.InvariantCulture) : "";
+        return new Dictionary<string, string>(StringComparer.Ordinal)
+        {
+            ["assetNumber"] = i.AssetNumber, ["customer"] = i.Customer, ["manufacturer"] = i.Manufacturer, ["model"] = i.Model, ["serialNumber"] = i.SerialNumber,
+            ["nominalFrequencyHz"] = N(i.Timebase.NominalFrequencyHz), ["toleranceHalfWidth"] = N(spec?.Tolerance?.Upper),
+            ["accelerationSensitivityPerG"] = N(spec?.AccelerationSensitivityPerG), ["temperatureCoefficientPerKelvin"] = N(spec?.TemperatureCoefficientPerKelvin),
+            ["agingPerDay"] = N(spec?.AgingPerDay), ["retrace"] = N(spec?.Retrace), ["oscillatorKind"] = i.Timebase.OscillatorKind ?? "",
+            ["version"] = i.Version.ToString(CultureInfo.InvariantCulture),
+        };
+    }
+
+    private static async Task<IResult> EditInstrumentFormAsync(long id, HttpContext http, InstrumentStore store, CalibrationRunStore runs, IOptions<JsonOptions> json, CancellationToken ct) =>
+        ValueOf<InstrumentDto>((await InstrumentsApi.Get(id, store, runs, json, http.Response, ct)).Result) is { } i
+            ? Page<InstrumentNew>(new { Heading = $"Edit instrument {i.AssetNumber}", Action = $"/instruments/{id}/edit", Button = "Save", Values = FormOf(i), http.User })
+            : NotFound(http, $"No instrument has the id {id}.");
+
+    private static async Task<IResult> EditInstrumentAsync(long id, IFormCollection form, HttpContext http, IDbConnectionFactory database, TimeProvider time, InstrumentStore store,
+        CalibrationRunStore runs, IOptions<JsonOptions> json, CancellationToken ct)
+    {
+        if (ValueOf<InstrumentDto>((await InstrumentsApi.Get(id, store, runs, json, http.Response, ct)).Result) is not { } current)
+        {
+            return NotFound(http, $"No instrument has the id {id}.");
+        }
+
+        var values = Typed(form);
+        var (request, errors) = InstrumentFromForm(values, current);
+        if (errors.Count == 0)
+        {
+            // the version the form was made from: a change saved meanwhile gets 412 (read again), as over the API
+            http.Request.Headers.IfMatch = "\"" + values.GetValueOrDefault("version", "0") + "\"";
+            var result = (await InstrumentsApi.Update(id, request!, http, database, time, json, ct)).Result;
+            if (ErrorsOf(result) is not { } refused)
+            {
+                return Results.Redirect($"/instruments/{id}");
+            }
+
+            foreach (var (field, messages) in refused)
+            {
+                errors[field] = messages;
+            }
+        }
+
+        return Page<InstrumentNew>(new { Heading = $"Edit instrument {current.AssetNumber}", Action = $"/instruments/{id}/edit", Button = "Save", Values = values, Errors = errors, http.User },
+            StatusCodes.Status400BadRequest);
+    }
+
+    // The request from the form; on an edit the fields the form does not show (description, postures, the rest of the
+    // specification) keep their stored values.
+    private static (InstrumentRequest? Request, Dictionary<string, string[]> Errors) InstrumentFromForm(Dictionary<string, string> values, InstrumentDto? current)
+    {
         var errors = new Dictionary<string, string[]>(StringComparer.Ordinal);
         double? Number(string field)
         {
@@ -185,26 +276,54 @@ public static class StaffPages
 
         double? nominal = Number("nominalFrequencyHz"), tolerance = Number("toleranceHalfWidth"), gamma = Number("accelerationSensitivityPerG"),
             temperature = Number("temperatureCoefficientPerKelvin"), aging = Number("agingPerDay"), retrace = Number("retrace");
-        if (errors.Count == 0)
+        if (errors.Count > 0)
         {
-            string? Text(string f) => values.GetValueOrDefault(f) is { Length: > 0 } t ? t : null;
-            var request = new InstrumentRequest(Text("assetNumber"), Text("customer"), Text("manufacturer"), Text("model"), Text("serialNumber") ?? "", "",
-                new TimebaseDto(Text("oscillatorKind"), nominal,
-                    new TimebaseSpecificationDto(tolerance is { } t ? new ToleranceDto(-t, t, null) : null, aging, null, temperature, null, gamma, null, retrace)),
-                [new PostureDto("standing on its feet", JsonSerializer.SerializeToElement("+z"))]);
-            var result = await InstrumentsApi.Create(request, http, database, time, json, null, ct);
-            if (ValueOf<InstrumentDto>(result) is { } created)
-            {
-                return Results.Redirect($"/instruments/{created.Id}");
-            }
-
-            foreach (var (field, messages) in ErrorsOf(result) ?? new Dictionary<string, string[]>())
-            {
-                errors[field.Replace("timebase.specification.tolerance.lower", "timebase.specification.tolerance.upper", StringComparison.Ordinal)] = messages;
-            }
+            return (null, errors);
         }
 
-        return Page<InstrumentNew>(new { Values = values, Errors = errors, http.User }, StatusCodes.Status400BadRequest);
+        string? Text(string f) => values.GetValueOrDefault(f) is { Length: > 0 } t ? t : null;
+        var spec = current?.Timebase.Specification;
+        var specification = new TimebaseSpecificationDto(tolerance is { } h ? new ToleranceDto(-h, h, spec?.Tolerance?.Conditions) : null, aging, spec?.AgingPerYear, temperature,
+            spec?.TemperatureRangeCelsius, gamma, spec?.WarmUpMinutes, retrace);
+        var postures = current is null
+            ? new[] { new PostureDto("standing on its feet", JsonSerializer.SerializeToElement("+z")) }
+            : current.Postures.Select(p => new PostureDto(p.Name, JsonSerializer.SerializeToElement(p.Up))).ToArray();
+        return (new InstrumentRequest(Text("assetNumber"), Text("customer"), Text("manufacturer"), Text("model"), Text("serialNumber") ?? "", current?.Description ?? "",
+            new TimebaseDto(Text("oscillatorKind"), nominal, specification), postures), errors);
+    }
+
+    private static async Task<IResult> AdminAsync(HttpContext http, Data.Users.UserStore users, ApiKeyStore keys, string? shown, IDictionary<string, string[]>? errors, CancellationToken ct) =>
+        Page<AdminPage>(new { Users = await users.ListAsync(ct), Keys = (await Keys.KeysApi.List(keys, ct)).Value ?? [], Shown = shown, Errors = errors, http.User },
+            errors is null ? StatusCodes.Status200OK : StatusCodes.Status400BadRequest);
+
+    private static async Task<IResult> AddUserAsync(IFormCollection form, HttpContext http, UserAccounts accounts, Data.Users.UserStore users, ApiKeyStore keys, CancellationToken ct)
+    {
+        string name = form["name"].ToString().Trim(), role = form["role"].ToString(), password = UserAccounts.NewPassword();
+        try
+        {
+            return await accounts.CreateAsync(name, role, password, actor: Conventions.Actor(http.User), ct: ct) is null
+                ? await AdminAsync(http, users, keys, null, new Dictionary<string, string[]> { ["name"] = [$"A user named '{name}' exists already."] }, ct)
+                : await AdminAsync(http, users, keys, $"Added {name} ({role}). Their first password, shown once: {password}", null, ct);
+        }
+        catch (ArgumentException ex)
+        {
+            return await AdminAsync(http, users, keys, null, new Dictionary<string, string[]> { [ex.ParamName ?? "name"] = [ex.Message] }, ct);
+        }
+    }
+
+    private static async Task<IResult> AddKeyAsync(IFormCollection form, HttpContext http, Data.Users.UserStore users, ApiKeyStore keys, CancellationToken ct)
+    {
+        var result = (await Keys.KeysApi.Create(new Keys.CreateKeyRequest(form["name"].ToString(), form["role"].ToString(), form["holder"].ToString() is { Length: > 0 } h ? h : null),
+            keys, http.User, ct)).Result;
+        return ValueOf<Keys.CreatedKeyDto>(result) is { } created
+            ? await AdminAsync(http, users, keys, $"Made key {created.Name} ({created.Role}), shown once: {created.Key}", null, ct)
+            : await AdminAsync(http, users, keys, null, ErrorsOf(result), ct);
+    }
+
+    private static async Task<IResult> RevokeKeyAsync(IFormCollection form, HttpContext http, Data.Users.UserStore users, ApiKeyStore keys, CancellationToken ct)
+    {
+        var result = (await Keys.KeysApi.Revoke(form["name"].ToString(), keys, http.User, ct)).Result;
+        return await AdminAsync(http, users, keys, ErrorsOf(result) is null ? $"Revoked key {form["name"]}." : null, ErrorsOf(result), ct);
     }
 
     private static async Task<IResult> InstrumentAsync(long id, HttpContext http, InstrumentStore store, CalibrationRunStore runs, BudgetStore budgets,
@@ -401,11 +520,57 @@ public static class StaffPages
         var run = budget.RunId;
         var certs = (ValueOf<Page<CertificateDto>>((await CertificatesApi.List(certificates, json, 200, null, null, null, ct)).Result)?.Items ?? [])
             .Where(c => c.BudgetId == id).ToArray();
+        var policy = budget.Latest.Snapshot.TryGetProperty("posturePolicy", out var p) ? p : default;
+        string kind = policy.ValueKind == JsonValueKind.Object && policy.TryGetProperty("kind", out var k) ? k.GetString() ?? "" : "as-calibrated";
+        string postureWords = kind switch
+        {
+            "tilt-limit" => $"within {(policy.TryGetProperty("tiltLimitDegrees", out var d) ? d.GetDouble().ToString("G", CultureInfo.InvariantCulture) : "?")} degrees of the calibration posture",
+            "known" => "a known posture of use",
+            "any" => "any orientation",
+            _ => "as calibrated (no orientation term)",
+        };
         return Page<BudgetDetail>(new
         {
-            Budget = budget, Versions = versions, Certificates = certs, CanApprove = Can(http.User, Policies.Approver), CanIssue = Can(http.User, Policies.Issuer),
+            Budget = budget, Versions = versions, Certificates = certs, PostureWords = postureWords, CanRevise = Can(http.User, Policies.Writer), CanApprove = Can(http.User, Policies.Approver), CanIssue = Can(http.User, Policies.Issuer),
             Values = values ?? new Dictionary<string, string>(), Errors = errors, http.User,
         }, errors is null ? StatusCodes.Status200OK : StatusCodes.Status400BadRequest);
+    }
+
+    private static async Task<IResult> ReviseAsync(long id, IFormCollection form, HttpContext http, IDbConnectionFactory database, TimeProvider time, TemplateCatalog catalog,
+        ReadingStore readings, BudgetStore budgets, CertificateStore certificates, IOptions<JsonOptions> json, IOptions<CalBudgetOptions> options, CancellationToken ct)
+    {
+        var values = Typed(form);
+        string posture = values.GetValueOrDefault("posture", "");
+        double? tilt = double.TryParse(values.GetValueOrDefault("tilt"), NumberStyles.Float, CultureInfo.InvariantCulture, out double t) ? t : null;
+        string overrideName = values.GetValueOrDefault("overrideName", "");
+        OverrideDto[]? overrides = null;
+        if (overrideName.Length > 0)
+        {
+            double? u = double.TryParse(values.GetValueOrDefault("overrideU"), NumberStyles.Float, CultureInfo.InvariantCulture, out double x) ? x : null;
+            if (u is null)
+            {
+                return await BudgetAsync(id, http, budgets, certificates, json, ct, values,
+                    new Dictionary<string, string[]> { ["overrides[0].standardUncertainty"] = [$"Not a number: '{values.GetValueOrDefault("overrideU")}'."] });
+            }
+
+            overrides = [new OverrideDto(overrideName, values.GetValueOrDefault("overrideReason") is { Length: > 0 } why ? why : null, 0, "normal", u, null, null, null, null, "B")];
+        }
+
+        var request = new BudgetRevisionRequest(values.GetValueOrDefault("reason") is { Length: > 0 } reason ? reason : null,
+            posture.Length > 0 ? new PosturePolicyDto(posture, null, posture == "tilt-limit" ? tilt : null) : null, overrides, null);
+        // the form names the version it was made from: a version made meanwhile by someone else gets 412, as over the API
+        http.Request.Headers.IfMatch = "\"" + values.GetValueOrDefault("latest", "0") + "\"";
+        var result = await StoredBudgetsApi.Revise(id, request, http, database, time, catalog, readings, json, options, ct);
+        return ErrorsOf(result) is { } errors ? await BudgetAsync(id, http, budgets, certificates, json, ct, values, errors) : Results.Redirect($"/budgets/{id}");
+    }
+
+    private static async Task<IResult> DiffAsync(long id, int? from, int? to, HttpContext http, BudgetStore budgets, IOptions<JsonOptions> json, CancellationToken ct)
+    {
+        var result = (await StoredBudgetsApi.Diff(id, from, to, budgets, json, ct)).Result;
+        return ValueOf<BudgetDiffDto>(result) is { } diff
+            ? Page<BudgetDiff>(new { BudgetId = id, Diff = diff, http.User })
+            : Page<Message>(new { Title = "No such versions", Text = string.Join(" ", (ErrorsOf(result) ?? new Dictionary<string, string[]>()).SelectMany(e => e.Value)), http.User },
+                StatusCodes.Status404NotFound);
     }
 
     private static async Task<IResult> ApproveAsync(long id, IFormCollection form, HttpContext http, IDbConnectionFactory database, TimeProvider time, BudgetStore budgets,

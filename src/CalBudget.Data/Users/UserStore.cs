@@ -23,8 +23,8 @@ public sealed class UserStore(IDbConnectionFactory database)
         created_at AS createdAt, disabled_at AS disabledAt
         """;
 
-    /// <summary>Adds an account; false when the name is taken.</summary>
-    public async Task<bool> CreateAsync(string name, string role, string passwordHash, bool isDemo, DateTimeOffset now, CancellationToken ct = default)
+    /// <summary>Adds an account, in the audit trail as made by <paramref name="actor"/>; false when the name is taken.</summary>
+    public async Task<bool> CreateAsync(string name, string role, string passwordHash, bool isDemo, DateTimeOffset now, string actor, CancellationToken ct = default)
     {
         await using var work = await UnitOfWork.BeginAsync(database, ct);
         if (await work.Connection.ExecuteScalarAsync<long>("SELECT count(*) FROM users WHERE name = @name", new { name }, work.Transaction) > 0)
@@ -35,7 +35,7 @@ public sealed class UserStore(IDbConnectionFactory database)
         await work.Connection.ExecuteAsync(
             "INSERT INTO users (name, role, password_hash, is_demo, created_at) VALUES (@name, @role, @passwordHash, @isDemo, @now)",
             new { name, role, passwordHash, isDemo, now = Timestamps.Format(now) }, work.Transaction);
-        await Audit.AuditLog.AppendAsync(work, now, "command line or admin", "create", "user", name, null,
+        await Audit.AuditLog.AppendAsync(work, now, actor, "create", "user", name, null,
             System.Text.Json.JsonSerializer.Serialize(new { name, role, isDemo }));
         await work.CommitAsync(ct);
         return true;
