@@ -138,9 +138,9 @@ public sealed class StaffPathTests(BrowserHost host) : IClassFixture<BrowserHost
         await approver.GetByRole(AriaRole.Button, new() { Name = "Issue" }).ClickAsync();
         var link = approver.Locator("li[id^=certificate-] a");
         await Assertions.Expect(link).ToHaveCountAsync(1);
-        var pdf = await approver.Context.APIRequest.GetAsync(await link.GetAttributeAsync("href") ?? "");
-        Assert.Equal(200, pdf.Status);
-        byte[] bytes = await pdf.BodyAsync();
+        var download = await approver.RunAndWaitForDownloadAsync(() => link.ClickAsync());
+        Assert.EndsWith(".pdf", download.SuggestedFilename, StringComparison.Ordinal);
+        byte[] bytes = await File.ReadAllBytesAsync(await download.PathAsync());
         Assert.Equal("%PDF", Encoding.ASCII.GetString(bytes, 0, 4));
         using (var document = PdfDocument.Open(bytes))
         {
