@@ -13,7 +13,7 @@ namespace CalBudget.Api.Cli;
 public static class CommandLine
 {
     /// <summary>True when the first argument names a command rather than a host setting.</summary>
-    public static bool IsCommand(string[] args) => args is ["keys", ..] or ["users", ..];
+    public static bool IsCommand(string[] args) => args is ["keys", ..] or ["users", ..] or ["backup", ..];
 
     /// <summary>Runs the command; returns the process exit code (0 done, 1 refused, 2 usage).</summary>
     public static async Task<int> RunAsync(string[] args, TextWriter stdout, TextWriter stderr)
@@ -31,6 +31,11 @@ public static class CommandLine
         var settings = config.GetSection(CalBudgetOptions.Section).Get<CalBudgetOptions>() ?? new CalBudgetOptions();
         var database = new SqliteDatabase(settings.DataDirectory);
         await Migrator.MigrateAsync(database);
+        if (args[0] == "backup")
+        {
+            return await BackupAsync(positional, database, stdout, stderr);
+        }
+
         if (args[0] == "users")
         {
             return await UsersAsync(positional, named, database, stdout, stderr);
@@ -68,6 +73,35 @@ public static class CommandLine
             }
         }
         catch (ApiKeyException ex)
+        {
+            await stderr.WriteLineAsync(ex.Message);
+            return 1;
+        }
+    }
+
+    // backup create <file> (while the service runs), backup restore <file> (with the service stopped)
+    private static async Task<int> BackupAsync(string[] positional, SqliteDatabase database, TextWriter stdout, TextWriter stderr)
+    {
+        try
+        {
+            switch (positional)
+            {
+                case ["create", var file]:
+                    var made = await Backups.CreateAsync(database, file);
+                    await stdout.WriteLineAsync($"Backed up {database.FilePath} to {made.File}: {made.Bytes} bytes, audit trail of {made.AuditEntries} entries verified.");
+                    return 0;
+                case ["restore", var file]:
+                    var restored = await Backups.RestoreAsync(database, file, DateTimeOffset.UtcNow);
+                    await stdout.WriteLineAsync($"Restored {database.FilePath} from {restored.File} (audit trail of {restored.AuditEntries} entries verified). " +
+                        $"The database as it was is kept in {restored.SafetyCopy}.");
+                    return 0;
+                default:
+                    await stderr.WriteLineAsync("usage: backup create <file>     (while the service runs: SQLite's online backup)");
+                    await stderr.WriteLineAsync("       backup restore <file>    (with the service stopped; the current database is kept beside it first)");
+                    return 2;
+            }
+        }
+        catch (BackupException ex)
         {
             await stderr.WriteLineAsync(ex.Message);
             return 1;

@@ -33,6 +33,12 @@ public sealed class CalBudgetOptions
     /// <summary>The ceiling on Monte Carlo trials per evaluation (422 beyond it).</summary>
     public long MonteCarloMaxTrials { get; set; } = Core.MonteCarlo.MonteCarloOptions.DefaultMaxTrials;
 
+    /// <summary>Requests per API key (or, without a key, per client address) in each 10-second window; 429 with Retry-After beyond.</summary>
+    public int RequestsPer10Seconds { get; set; } = 1200;
+
+    /// <summary>Sign-in attempts per client address in each minute; 429 with Retry-After beyond.</summary>
+    public int SignInAttemptsPerMinute { get; set; } = 20;
+
     /// <summary>How long a verified API key is remembered before the database is asked again (0 turns the cache off).</summary>
     public TimeSpan KeyCacheLifetime { get; set; } = TimeSpan.FromSeconds(5);
 

@@ -84,6 +84,7 @@ public static class HostingExtensions
         builder.Services.AddSingleton<CalBudget.Data.Users.UserStore>();
         builder.Services.AddSingleton<UserAccounts>();
         builder.Services.AddRazorComponents();
+        builder.Services.AddCalBudgetRateLimits();
         builder.Services.AddAntiforgery(o =>
         {
             o.Cookie.Name = "calbudget.antiforgery";
@@ -147,6 +148,7 @@ public static class HostingExtensions
             return next(context);
         });
         app.UseMiddleware<RequestBodyLimitMiddleware>();
+        app.UseRateLimiter();
         app.UseAuthentication();
         app.UseAuthorization();
         app.UseAntiforgery();
