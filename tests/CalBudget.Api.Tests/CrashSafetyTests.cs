@@ -3,7 +3,6 @@ using System.Diagnostics;
 using System.Globalization;
 using System.Net;
 using System.Net.Http.Headers;
-using System.Net.Sockets;
 using System.Security.Cryptography;
 using System.Text;
 using System.Text.Json.Nodes;
@@ -29,66 +28,13 @@ public sealed class CrashSafetyTests : IDisposable
         }
     }
 
-    private Process Start(params string[] args)
-    {
-        var info = new ProcessStartInfo("dotnet") { RedirectStandardOutput = true, RedirectStandardError = true, UseShellExecute = false };
-        info.ArgumentList.Add(Path.Combine(AppContext.BaseDirectory, "CalBudget.Api.dll"));
-        foreach (var a in args)
-        {
-            info.ArgumentList.Add(a);
-        }
+    private Process Start(params string[] args) => ChildService.Start(_dir, args);
 
-        info.Environment["CalBudget__DataDirectory"] = _dir;
-        info.Environment["ASPNETCORE_ENVIRONMENT"] = "Production";
-        info.Environment["CalBudget__RequestsPer10Seconds"] = "1000000";
-        var process = Process.Start(info)!;
-        process.OutputDataReceived += (_, _) => { };
-        process.ErrorDataReceived += (_, _) => { };
-        if (args is not ["keys", ..])
-        {
-            process.BeginOutputReadLine();
-            process.BeginErrorReadLine();
-        }
+    private Task<string> KeyAsync(string role, string name) => ChildService.KeyAsync(_dir, role, name);
 
-        return process;
-    }
+    private static int FreePort() => ChildService.FreePort();
 
-    private async Task<string> KeyAsync(string role, string name)
-    {
-        using var keys = Start("keys", "create", "--role", role, "--name", name, "--holder", name);
-        string output = await keys.StandardOutput.ReadToEndAsync();
-        await keys.WaitForExitAsync();
-        Assert.Equal(0, keys.ExitCode);
-        return output.TrimEnd().Split('\n')[^1].Trim();
-    }
-
-    private static int FreePort()
-    {
-        using var listener = new TcpListener(IPAddress.Loopback, 0);
-        listener.Start();
-        return ((IPEndPoint)listener.LocalEndpoint).Port;
-    }
-
-    private static async Task WaitHealthyAsync(HttpClient client)
-    {
-        var deadline = DateTime.UtcNow.AddSeconds(30);
-        while (true)
-        {
-            try
-            {
-                if ((await client.GetAsync("/health")).IsSuccessStatusCode)
-                {
-                    return;
-                }
-            }
-            catch (HttpRequestException) when (DateTime.UtcNow < deadline)
-            {
-            }
-
-            Assert.True(DateTime.UtcNow < deadline, "the service did not start");
-            await Task.Delay(100);
-        }
-    }
+    private static Task WaitHealthyAsync(HttpClient client) => ChildService.WaitHealthyAsync(client);
 
     private static HttpClient Client(int port, string key)
     {

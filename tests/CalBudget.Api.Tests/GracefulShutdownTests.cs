@@ -1,7 +1,6 @@
 using System.Diagnostics;
 using System.Net;
 using System.Net.Http.Headers;
-using System.Net.Sockets;
 
 namespace CalBudget.Api.Tests;
 
@@ -19,20 +18,7 @@ public sealed class GracefulShutdownTests : IDisposable
         }
     }
 
-    private Process Start(params string[] args)
-    {
-        var info = new ProcessStartInfo("dotnet") { RedirectStandardOutput = true, RedirectStandardError = true, UseShellExecute = false };
-        info.ArgumentList.Add(Path.Combine(AppContext.BaseDirectory, "CalBudget.Api.dll"));
-        foreach (var a in args)
-        {
-            info.ArgumentList.Add(a);
-        }
-
-        info.Environment["CalBudget__DataDirectory"] = _dir;
-        info.Environment["DOTNET_ENVIRONMENT"] = "Production";
-        info.Environment["ASPNETCORE_ENVIRONMENT"] = "Production";
-        return Process.Start(info)!;
-    }
+    private Process Start(params string[] args) => ChildService.Start(_dir, args);
 
     private static class Native
     {
@@ -43,12 +29,7 @@ public sealed class GracefulShutdownTests : IDisposable
         public static extern int Kill(int pid, int signal);
     }
 
-    private static int FreePort()
-    {
-        using var listener = new TcpListener(IPAddress.Loopback, 0);
-        listener.Start();
-        return ((IPEndPoint)listener.LocalEndpoint).Port;
-    }
+    private static int FreePort() => ChildService.FreePort();
 
     [Fact]
     public async Task SigtermLetsARequestInFlightFinishAndExitsCleanly()
@@ -72,23 +53,7 @@ public sealed class GracefulShutdownTests : IDisposable
         try
         {
             using var client = new HttpClient { BaseAddress = new Uri($"http://127.0.0.1:{port}"), Timeout = TimeSpan.FromSeconds(60) };
-            var deadline = DateTime.UtcNow.AddSeconds(30);
-            while (true)
-            {
-                try
-                {
-                    if ((await client.GetAsync("/health")).IsSuccessStatusCode)
-                    {
-                        break;
-                    }
-                }
-                catch (HttpRequestException) when (DateTime.UtcNow < deadline)
-                {
-                }
-
-                Assert.True(DateTime.UtcNow < deadline, "the service did not start");
-                await Task.Delay(100);
-            }
+            await ChildService.WaitHealthyAsync(client);
 
             // Seconds of Monte Carlo work: 10 million trials of six Student's t inputs.
             string inputs = string.Join(",", Enumerable.Range(0, 6).Select(i => $$"""{"name":"t{{i}}","distribution":"student-t","standardUncertainty":1,"degreesOfFreedom":3}"""));
