@@ -79,6 +79,13 @@ public sealed partial class TemplateCatalog
     public static BudgetTemplate Read(string file, byte[] bytes)
     {
         ArgumentNullException.ThrowIfNull(file);
+        ArgumentNullException.ThrowIfNull(bytes);
+        // the reader checks UTF-8 only in the parts it decodes; a bad sequence in a name would surface later as another exception
+        if (!System.Text.Unicode.Utf8.IsValid(bytes))
+        {
+            throw new TemplateException(file, "$", "Not UTF-8 text.");
+        }
+
         JsonElement root;
         try
         {

@@ -29,9 +29,15 @@ public sealed record CertificateWording(string LabName, IReadOnlyList<string> La
         }
 
         CertificateWording? w;
+        byte[] bytes = File.ReadAllBytes(path);
+        if (!System.Text.Unicode.Utf8.IsValid(bytes))
+        {
+            throw new TemplateException(file, "$", "Not UTF-8 text.");
+        }
+
         try
         {
-            w = JsonSerializer.Deserialize<CertificateWording>(File.ReadAllBytes(path), Strict);
+            w = JsonSerializer.Deserialize<CertificateWording>(bytes, Strict);
         }
         catch (JsonException ex)
         {
