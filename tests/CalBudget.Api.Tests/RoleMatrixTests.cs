@@ -101,6 +101,35 @@ public sealed class RoleMatrixTests : IClassFixture<RoleMatrixTests.Service>
         Assert.Equal(listed, mapped);
     }
 
+    [Fact]
+    public async Task TheOpenApiDocumentStatesTheRolesOfTheMatrixForEveryOperation()
+    {
+        var doc = await Json.ReadAsync(await _service.Factory.CreateClient().GetAsync("/openapi/v1.json"), HttpStatusCode.OK);
+        var documented = new List<string>();
+        foreach (var (path, item) in doc["paths"]!.AsObject())
+        {
+            foreach (var (method, operation) in item!.AsObject())
+            {
+                if (operation?["tags"]?[0]?.GetValue<string>() == CalBudget.Api.Pages.StaffPages.Tag)
+                {
+                    continue; // the pages' table: PageRoleMatrixTests
+                }
+
+                string verb = method.ToUpperInvariant();
+                documented.Add($"{verb} {path}");
+                var row = Matrix.SingleOrDefault(r => r.Method == verb && Documented(r.Route) == path);
+                Assert.True(row.Route is not null, $"{method.ToUpperInvariant()} {path} is documented but not in the matrix");
+                var roles = operation!["x-roles"]!.AsArray().Select(r => r!.GetValue<string>()).Order(StringComparer.Ordinal).ToArray();
+                Assert.Equal((row.Roles ?? []).Order(StringComparer.Ordinal).ToArray(), roles);
+            }
+        }
+
+        Assert.Equal(Matrix.Where(r => !r.Route.StartsWith("/openapi", StringComparison.Ordinal)).Select(r => $"{r.Method} {Documented(r.Route)}").Order(StringComparer.Ordinal),
+            documented.Order(StringComparer.Ordinal));
+    }
+
+    private static string Documented(string route) => System.Text.RegularExpressions.Regex.Replace(route, @"\{(\w+):[^}]+\}", "{$1}");
+
     [Theory]
     [MemberData(nameof(Routes))]
     public async Task EveryRoleGetsWhatTheMatrixSays(string method, string route)
