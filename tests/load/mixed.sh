@@ -2,7 +2,8 @@
 # Figures for the mixed read/write profile and POST /api/v1/stability with 100,000 points (README, "Performance"):
 # publishes the service, starts it in Development (demo records), then: three 10 s runs of wrk -t2 -c16 with
 # tests/load/mixed.lua; three 10 s runs of wrk -t2 -c4 posting 100,000 readings for oadev at octave factors; then the
-# mixed profile for MINUTES (default 10), printing the service's resident memory each minute (it must not grow).
+# mixed profile for MINUTES (default 10), printing the service's resident memory (it must not grow) and the size of
+# SQLite's write-ahead log each minute.
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 command -v wrk >/dev/null || { apt-get update -qq && apt-get install -y -qq wrk >/dev/null; }
@@ -10,6 +11,7 @@ minutes=${1:-10}
 . tests/load/serve.sh
 export CALBUDGET_KEY=cbk_de00000000000001_demo-technician-key-not-for-production
 rss() { awk '/VmRSS/ { printf "%.0f MB", $2 / 1024 }' "/proc/$server/status"; }
+wal() { stat -c %s "$work/data/calbudget.db-wal" 2>/dev/null | awk '{ printf "%.1f MB", $1 / 1048576 }'; }
 wrk -t2 -c16 -d10s -s tests/load/mixed.lua http://127.0.0.1:5080 >/dev/null   # warm-up
 for run in 1 2 3; do
   echo "mixed $run: $(wrk -t2 -c16 -d10s --latency -s tests/load/mixed.lua http://127.0.0.1:5080 | grep -E 'Requests/sec|^ +(50|99)%|Non-2xx|server error' | tr -s ' ' | tr '\n' ' ')"
@@ -26,5 +28,5 @@ done
 echo "memory before the long run: $(rss)"
 for minute in $(seq "$minutes"); do
   out=$(wrk -t2 -c16 -d60s -s tests/load/mixed.lua http://127.0.0.1:5080 | grep -E 'Requests/sec|Non-2xx' | tr -s ' ' | tr '\n' ' ')
-  echo "minute $minute: $out resident $(rss)"
+  echo "minute $minute: $out resident $(rss), write-ahead log $(wal)"
 done

@@ -55,6 +55,16 @@ public sealed class CalibrationRunStore(IDbConnectionFactory database)
         ORDER BY r.id LIMIT @take
         """;
 
+    // With an instrument, the (instrument_id, id) index serves the page: "(@x IS NULL OR col = @x)" keeps SQLite's planner
+    // off an index, which scanned ever more rows as the runs grew (mixed load, README).
+    private const string PageByInstrumentSql = $"""
+        {Select}
+        WHERE r.instrument_id = @instrumentId AND r.id > @after
+          AND (@referenceId IS NULL OR r.reference_id = @referenceId) AND (@condition IS NULL OR r.condition = @condition)
+          AND (@includeRetired = 1 OR r.retired_at IS NULL)
+        ORDER BY r.id LIMIT @take
+        """;
+
     private const string RecentSql = $"""
         {Select}
         WHERE r.instrument_id = @instrumentId AND r.retired_at IS NULL
@@ -105,7 +115,7 @@ public sealed class CalibrationRunStore(IDbConnectionFactory database)
         bool includeRetired, CancellationToken ct = default)
     {
         await using var connection = await database.OpenAsync(ct);
-        var rows = await connection.QueryAsync<Row>(new CommandDefinition(PageSql,
+        var rows = await connection.QueryAsync<Row>(new CommandDefinition(instrumentId is null ? PageSql : PageByInstrumentSql,
             new { after = afterId, take = limit, instrumentId, referenceId, condition, includeRetired = includeRetired ? 1 : 0 }, cancellationToken: ct));
         return rows.Select(r => r.ToModel()).ToArray();
     }
