@@ -27,10 +27,7 @@ public sealed class BackupTests : IDisposable
         return (code, stdout.ToString(), stderr.ToString());
     }
 
-    private static string Instrument(string asset) => $$"""
-        { "assetNumber": "{{asset}}", "customer": "Calder Rail Signalling", "manufacturer": "Tessary Devices", "model": "FC-12",
-          "timebase": { "oscillatorKind": "XO", "nominalFrequencyHz": 10000000 }, "postures": [ { "name": "standing on its feet", "up": "+z" } ] }
-        """;
+    private static string Instrument(string asset) => LabRecords.PlainInstrumentBody(asset, "Calder Rail Signalling");
 
     [Fact]
     public async Task ARestoreBringsBackExactlyTheBackedUpStateWithAValidAuditTrail()

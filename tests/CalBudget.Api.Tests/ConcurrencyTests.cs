@@ -12,10 +12,7 @@ public sealed class ConcurrencyTests : IDisposable
 
     public void Dispose() => _factory.Dispose();
 
-    private static string Instrument(string asset, string customer) => $$"""
-        { "assetNumber": "{{asset}}", "customer": "{{customer}}", "manufacturer": "Tessary Devices", "model": "FC-12",
-          "timebase": { "oscillatorKind": "XO", "nominalFrequencyHz": 10000000 }, "postures": [ { "name": "standing on its feet", "up": "+z" } ] }
-        """;
+    private static string Instrument(string asset, string customer) => LabRecords.PlainInstrumentBody(asset, customer);
 
     [Fact]
     public async Task OfTwoEditsFromTheSameVersionExactlyOneWins()

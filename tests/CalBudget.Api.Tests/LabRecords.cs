@@ -6,6 +6,12 @@ namespace CalBudget.Api.Tests;
 /// <summary>Invented records the calibration tests build on (demo-style data, not check values).</summary>
 internal static class LabRecords
 {
+    /// <summary>A plain XO instrument with one posture (asset and customer as given).</summary>
+    public static string PlainInstrumentBody(string asset, string customer) => $$"""
+        { "assetNumber": "{{asset}}", "customer": "{{customer}}", "manufacturer": "Tessary Devices", "model": "FC-12",
+          "timebase": { "oscillatorKind": "XO", "nominalFrequencyHz": 10000000 }, "postures": [ { "name": "standing on its feet", "up": "+z" } ] }
+        """;
+
     public static async Task<long> InstrumentAsync(HttpClient client, string asset = "CB-0042", double nominalHz = 10e6)
     {
         string body = $$"""

@@ -350,18 +350,11 @@ public static class StoredBudgetsApi
         var reference = (await ReferenceStandardStore.GetAsync(work, run.Fields.ReferenceId))!;
         var spec = JsonSerializer.Deserialize<TimebaseSpecificationDto>(instrument.Fields.SpecificationJson, o)!;
         var upload = await ReadingStore.LatestAsync(work, runId);
-        var values = new List<double>();
-        if (upload is not null)
-        {
-            await foreach (var r in readings.ReadingsAsync(upload.Id, ct))
-            {
-                values.Add(r.FractionalOffset);
-            }
-        }
+        double[] values = upload is null ? [] : await readings.FractionalOffsetsAsync(upload.Id, ct);
 
         var f = run.Fields;
         var runInputs = new RunInputs(f.StartedAt, f.GateTimeSeconds, f.ComparatorResolution, Core.Orientation.Posture.FromVector(new Core.Orientation.Vector3D(f.UpX, f.UpY, f.UpZ)),
-            values.ToArray());
+            values);
         var rf = reference.Fields;
         var refInputs = new ReferenceInputs(rf.Identity, rf.CertificateNumber, rf.CalibrationDate, rf.FractionalOffset, rf.ExpandedUncertainty, rf.CoverageFactor,
             rf.DriftPerDay, rf.DriftUncertaintyPerDay);

@@ -304,14 +304,7 @@ public static class CertificatesApi
         var instrument = (await InstrumentStore.GetAsync(work, run.Fields.InstrumentId))!;
         var reference = (await ReferenceStandardStore.GetAsync(work, run.Fields.ReferenceId))!;
         var spec = JsonSerializer.Deserialize<TimebaseSpecificationDto>(instrument.Fields.SpecificationJson, o)!;
-        var values = new List<double>();
-        if (version.ReadingUploadId is { } uploadId)
-        {
-            await foreach (var reading in readings.ReadingsAsync(uploadId, ct))
-            {
-                values.Add(reading.FractionalOffset);
-            }
-        }
+        double[] values = version.ReadingUploadId is { } uploadId ? await readings.FractionalOffsetsAsync(uploadId, ct) : [];
 
         var history = new List<(DateTimeOffset, double, double)>();
         foreach (var earlier in await CertificateStore.HistoryAsync(work, instrument.Id))
@@ -326,7 +319,7 @@ public static class CertificatesApi
         history.AddRange((request.PriorResults ?? []).Select(p => (p.Date!.Value, p.FractionalOffset!.Value, p.ExpandedUncertainty!.Value)));
         string number = await NextNumberAsync(work, options.CertificateNumberPattern, now);
         string approver = await Data.Keys.ApiKeyStore.PersonAsync(work, version.ApprovedBy!);
-        var facts = new CertificateFacts(number, now, Conventions.Person(http.User), approver, version.MadeByPerson, setup.Wording, request, instrument, spec, run, reference, [.. values], version, lines,
+        var facts = new CertificateFacts(number, now, Conventions.Person(http.User), approver, version.MadeByPerson, setup.Wording, request, instrument, spec, run, reference, values, version, lines,
             evaluate, result, asLeft, await SensitivityTestStore.LatestAsync(work, instrument.Id), history, replaces?.Number, note);
         ComposedCertificate composed;
         try

@@ -120,15 +120,11 @@ public static class SensitivityTestsApi
             }
 
             reference = run!.Fields.ReferenceId;
-            var values = new List<double>();
-            await foreach (var reading in readings.ReadingsAsync(run.Readings!.UploadId, ct))
-            {
-                values.Add(reading.FractionalOffset);
-            }
+            var values = await readings.FractionalOffsetsAsync(run.Readings!.UploadId, ct);
 
             try
             {
-                var typeA = TimebaseTypeA.Evaluate(values.ToArray(), run.Fields.GateTimeSeconds);
+                var typeA = TimebaseTypeA.Evaluate(values, run.Fields.GateTimeSeconds);
                 observations.Add(new PostureReading(Posture.FromVector(new Vector3D(run.Fields.UpX, run.Fields.UpY, run.Fields.UpZ)), typeA.Mean,
                     typeA.StandardUncertainty > 0 ? typeA.StandardUncertainty : null));
             }

@@ -146,6 +146,24 @@ public static class StaffPages
 
     private static T? ValueOf<T>(IResult result) => result is IValueHttpResult<T> v ? v.Value : default;
 
+    // A number typed in a form field: null when left empty; text that is not a number is an error under the API's field name.
+    private static double? FormNumber(Dictionary<string, string> values, string field, string apiField, Dictionary<string, string[]> errors)
+    {
+        string text = values.GetValueOrDefault(field, "").Trim();
+        if (text.Length == 0)
+        {
+            return null;
+        }
+
+        if (double.TryParse(text, NumberStyles.Float, CultureInfo.InvariantCulture, out double v))
+        {
+            return v;
+        }
+
+        errors[apiField] = [$"Not a number: '{text}' (write it like 1e-9 or 10000000)."];
+        return null;
+    }
+
     private static Dictionary<string, string> Typed(IFormCollection form) =>
         form.Where(f => !f.Key.StartsWith("__", StringComparison.Ordinal)).ToDictionary(f => f.Key, f => f.Value.ToString(), StringComparer.Ordinal);
 
@@ -257,22 +275,7 @@ public static class StaffPages
     private static (InstrumentRequest? Request, Dictionary<string, string[]> Errors) InstrumentFromForm(Dictionary<string, string> values, InstrumentDto? current)
     {
         var errors = new Dictionary<string, string[]>(StringComparer.Ordinal);
-        double? Number(string field)
-        {
-            string text = values.GetValueOrDefault(field, "").Trim();
-            if (text.Length == 0)
-            {
-                return null;
-            }
-
-            if (double.TryParse(text, NumberStyles.Float, CultureInfo.InvariantCulture, out double v))
-            {
-                return v;
-            }
-
-            errors[InstrumentNew.ApiField(field)] = [$"Not a number: '{text}' (write it like 1e-9 or 10000000)."];
-            return null;
-        }
+        double? Number(string field) => FormNumber(values, field, InstrumentNew.ApiField(field), errors);
 
         double? nominal = Number("nominalFrequencyHz"), tolerance = Number("toleranceHalfWidth"), gamma = Number("accelerationSensitivityPerG"),
             temperature = Number("temperatureCoefficientPerKelvin"), aging = Number("agingPerDay"), retrace = Number("retrace");
@@ -364,22 +367,7 @@ public static class StaffPages
         var form = await http.Request.ReadFormAsync(ct);
         var values = Typed(form);
         var errors = new Dictionary<string, string[]>(StringComparer.Ordinal);
-        double? Number(string field, string api)
-        {
-            string text = values.GetValueOrDefault(field, "").Trim();
-            if (text.Length == 0)
-            {
-                return null;
-            }
-
-            if (double.TryParse(text, NumberStyles.Float, CultureInfo.InvariantCulture, out double v))
-            {
-                return v;
-            }
-
-            errors[api] = [$"Not a number: '{text}'."];
-            return null;
-        }
+        double? Number(string field, string api) => FormNumber(values, field, api, errors);
 
         double? resolution = Number("resolution", "comparator.resolution"), gate = Number("gate", "gateTimeSeconds"), temperature = Number("temperature", "environment.temperatureCelsius");
         DateTimeOffset? started = null;
@@ -430,19 +418,8 @@ public static class StaffPages
         return await NewRunAsync(id, http, store, runs, references, time, json, ct, values, errors);
     }
 
-    private static async Task<double[]> ReadingsAsync(long runId, ReadingStore readings, CancellationToken ct)
-    {
-        var values = new List<double>();
-        if (await readings.LatestAsync(runId, ct) is { } upload)
-        {
-            await foreach (var r in readings.ReadingsAsync(upload.Id, ct))
-            {
-                values.Add(r.FractionalOffset);
-            }
-        }
-
-        return [.. values];
-    }
+    private static async Task<double[]> ReadingsAsync(long runId, ReadingStore readings, CancellationToken ct) =>
+        await readings.LatestAsync(runId, ct) is { } upload ? await readings.FractionalOffsetsAsync(upload.Id, ct) : [];
 
     private static async Task<IResult> RunAsync(long id, HttpContext http, CalibrationRunStore runs, ReadingStore readings, BudgetStore budgets, TemplateCatalog catalog,
         IOptions<JsonOptions> json, CancellationToken ct, IReadOnlyDictionary<string, string>? values = null, IDictionary<string, string[]>? errors = null)

@@ -72,6 +72,18 @@ public sealed class ReadingStore(IDbConnectionFactory database)
         }
     }
 
+    /// <summary>The fractional frequency offsets of an upload, in order (what the analytics take).</summary>
+    public async Task<double[]> FractionalOffsetsAsync(long uploadId, CancellationToken ct = default)
+    {
+        var values = new List<double>();
+        await foreach (var reading in ReadingsAsync(uploadId, ct))
+        {
+            values.Add(reading.FractionalOffset);
+        }
+
+        return [.. values];
+    }
+
     /// <summary>The bytes of an upload as received, a part at a time (decompressed when stored compressed).</summary>
     public async IAsyncEnumerable<byte[]> ContentAsync(long uploadId, [EnumeratorCancellation] CancellationToken ct = default)
     {
