@@ -77,6 +77,10 @@ public sealed class StabilityApiTests : IDisposable
         { """{"dataType":"frequency","tau0":1,"values":[1,2,3],"values":[4,5,6],"statistics":["adev"],"colour":1}""", 400, "colour" },
         { """{"dataType":"frequency","tau0":1,"values":[1,2,3,"statistics":["adev"]}""", 400, "values[3]" },
         { """{"dataType":"frequency","tau0":1,"values":[1],"statistics":["adev"]}""", 422, "values" },
+        { """{"dataType":"frequency","tau0":1,"values":[ , 1, 2, 3],"statistics":["adev"]}""", 400, "values[0]" },
+        { """{"dataType":"frequency","tau0":1,"values":[1, 2, 3,],"statistics":["adev"]}""", 400, "values[3]" },
+        { """{"dataType":"frequency","tau0":1,"values":[1,,2,3],"statistics":["adev"]}""", 400, "values[1]" },
+        { """{"dataType":"frequency","tau0":1,"values":[1,2,3]""", 400, "body" },
     };
 
     [Theory]
@@ -107,5 +111,79 @@ public sealed class StabilityApiTests : IDisposable
         var slow = await Json.ReadAsync(await client.PostAsync(Path, Json.Body(body.Replace("\"values\"", "\"Values\"", StringComparison.Ordinal))), HttpStatusCode.OK);
         Assert.Equal(slow.ToJsonString(), fast.ToJsonString());
         Assert.True(fast["results"]!["oadev"]!.AsArray().Count > 5);
+    }
+
+    [Fact]
+    public async Task ABodyThatTricklesInIsReadAsTheSameBodyAtOnce()
+    {
+        // The scanner reads the readings while the body is still arriving; here it arrives in pieces of 1 to 3,000 bytes,
+        // split anywhere (inside numbers, nulls and the brackets), with the readings first and more properties after them.
+        // The answer must be the one for the whole body at once, and the one the serializer gives (spelt "Values").
+        var random = new Random(11);
+        var text = new System.Text.StringBuilder();
+        for (int i = 0; i < 20_000; i++)
+        {
+            text.Append(i == 0 ? "" : i % 5 == 0 ? " , " : ",")
+                .Append(i % 700 == 3 ? "null" : (3e-9 + random.NextDouble() * 2e-11).ToString("R", System.Globalization.CultureInfo.InvariantCulture));
+        }
+
+        string body = "{\"values\": [" + text + "] , \"dataType\":\"frequency\",\"tau0\":1,\"statistics\":[\"oadev\",\"mdev\"]}";
+        var client = await _factory.ClientAsync("auditor");
+        var trickled = await Json.ReadAsync(await client.PostAsync(Path, new TricklingContent(body, seed: 5)), HttpStatusCode.OK);
+        var whole = await Json.ReadAsync(await client.PostAsync(Path, Json.Body(body)), HttpStatusCode.OK);
+        var serializer = await Json.ReadAsync(await client.PostAsync(Path, Json.Body(body.Replace("\"values\"", "\"Values\"", StringComparison.Ordinal))), HttpStatusCode.OK);
+        Assert.Equal(whole.ToJsonString(), trickled.ToJsonString());
+        Assert.Equal(serializer.ToJsonString(), trickled.ToJsonString());
+        Assert.True(trickled["results"]!["mdev"]!.AsArray().Count > 5);
+    }
+
+    [Theory]
+    [InlineData("1,2,x,4", "values[2]")]
+    [InlineData("1,2,,4", "values[2]")]
+    [InlineData("1,2,3,", "values[3]")]
+    [InlineData("1,2,3", "values")]
+    public async Task ABadReadingInATricklingBodyIsAProblemNamingIt(string tail, string field)
+    {
+        // a long valid start, so that the scanner has taken most of the readings before it meets the fault
+        string start = string.Join(",", Enumerable.Range(0, 5_000).Select(i => (1e-11 * (i % 13)).ToString("R", System.Globalization.CultureInfo.InvariantCulture)));
+        string body = "{\"dataType\":\"frequency\",\"tau0\":1,\"statistics\":[\"oadev\"],\"values\":[" + start + "," + tail
+            + (tail == "1,2,3" ? "" : "]}");
+        var client = await _factory.ClientAsync("auditor");
+        var problem = await Json.ProblemAsync(await client.PostAsync(Path, new TricklingContent(body, seed: 9)), HttpStatusCode.BadRequest);
+        string expected = field == "values" ? "values" : $"values[{5_000 + int.Parse(field[7..^1], System.Globalization.CultureInfo.InvariantCulture)}]";
+        Assert.Contains(Json.ErrorFields(problem), f => f.StartsWith(expected, StringComparison.Ordinal));
+    }
+
+    // A JSON body with its Content-Length, written in pieces of random size with a flush after each.
+    private sealed class TricklingContent : HttpContent
+    {
+        private readonly byte[] _bytes;
+        private readonly int _seed;
+
+        public TricklingContent(string json, int seed)
+        {
+            _bytes = System.Text.Encoding.UTF8.GetBytes(json);
+            _seed = seed;
+            Headers.ContentType = Json.JsonType;
+            Headers.ContentLength = _bytes.Length;
+        }
+
+        protected override async Task SerializeToStreamAsync(Stream stream, TransportContext? context)
+        {
+            var random = new Random(_seed);
+            for (int at = 0; at < _bytes.Length;)
+            {
+                int n = Math.Min(random.Next(1, 3_000), _bytes.Length - at);
+                await stream.WriteAsync(_bytes.AsMemory(at, n));
+                await stream.FlushAsync();
+                at += n;
+            }
+        }
+
+        protected override bool TryComputeLength(out long length)
+        {
+            length = _bytes.Length;
+            return true;
+        }
     }
 }

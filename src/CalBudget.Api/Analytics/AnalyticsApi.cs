@@ -43,7 +43,7 @@ public static class AnalyticsApi
         return routes;
     }
 
-    /// <summary>POST /api/v1/stability: the body is buffered and read by <see cref="StabilityBody"/>.</summary>
+    /// <summary>POST /api/v1/stability: the body is read as it arrives by <see cref="StabilityBody"/>.</summary>
     public static async Task<Results<Ok<StabilityResponse>, ProblemHttpResult>> Stability(HttpRequest http, IOptions<JsonOptions> json, CancellationToken ct)
     {
         ArgumentNullException.ThrowIfNull(http);
@@ -53,11 +53,10 @@ public static class AnalyticsApi
             throw new BadHttpRequestException("The request body must be application/json.", StatusCodes.Status415UnsupportedMediaType);
         }
 
-        var body = await ReadBodyAsync(http, ct);
         try
         {
-            var (request, values) = StabilityBody.Read(body, json.Value.SerializerOptions);
-            return Evaluate(request, values);
+            using var input = await StabilityBody.ReadAsync(http, json.Value.SerializerOptions, ct);
+            return Evaluate(input.Request, input.Values);
         }
         catch (JsonException ex)
         {
@@ -65,32 +64,7 @@ public static class AnalyticsApi
         }
     }
 
-    private static async Task<ReadOnlyMemory<byte>> ReadBodyAsync(HttpRequest http, CancellationToken ct)
-    {
-        if (http.ContentLength is long length && length <= int.MaxValue)
-        {
-            byte[] exact = new byte[length];
-            int read = 0;
-            while (read < exact.Length)
-            {
-                int n = await http.Body.ReadAsync(exact.AsMemory(read), ct);
-                if (n == 0)
-                {
-                    break;
-                }
-
-                read += n;
-            }
-
-            return exact.AsMemory(0, read);
-        }
-
-        using var buffer = new MemoryStream();
-        await http.Body.CopyToAsync(buffer, ct);
-        return buffer.GetBuffer().AsMemory(0, (int)buffer.Length);
-    }
-
-    private static Results<Ok<StabilityResponse>, ProblemHttpResult> Evaluate(StabilityRequest request, double[]? readings)
+    private static Results<Ok<StabilityResponse>, ProblemHttpResult> Evaluate(StabilityRequest request, ReadOnlyMemory<double>? readings)
     {
         var errors = new FieldErrors();
         StabilityDataType? type = request.DataType switch
@@ -106,11 +80,11 @@ public static class AnalyticsApi
         }
 
         double? tau0 = errors.Positive(request.Tau0, "tau0");
-        if (readings is null || readings.Length == 0)
+        if (readings is not { Length: > 0 })
         {
             errors.Add("values", "At least one reading is required.");
         }
-        else if (readings.Length > MaxValues)
+        else if (readings.Value.Length > MaxValues)
         {
             errors.Add("values", $"At most {MaxValues} readings.");
         }
@@ -150,7 +124,7 @@ public static class AnalyticsApi
 
         try
         {
-            var result = StabilityAnalysis.Analyse(readings!, type.Value, tau0.Value, statistics, request.AveragingFactors?.ToArray());
+            var result = StabilityAnalysis.Analyse(readings!.Value, type.Value, tau0.Value, statistics, request.AveragingFactors?.ToArray());
             return TypedResults.Ok(new StabilityResponse(
                 result.Results.ToDictionary(r => r.Key.ToString().ToLowerInvariant(), r => r.Value.Select(p =>
                     new StabilityPointDto(p.AveragingFactor, p.Tau, p.Deviation, p.Count, p.DegreesOfFreedom, [p.Interval.Low, p.Interval.High])).ToArray()),

@@ -1,3 +1,4 @@
+using System.Buffers.Binary;
 using System.Globalization;
 using System.Numerics;
 
@@ -18,57 +19,68 @@ public static class FastDouble
     // For each q: the 128 most significant bits of 5^q (q >= 0) or of a rounded-up 2^b / 5^-q (q < 0), high word first.
     private static readonly ulong[] PowersOfFive = BuildTable();
 
-    /// <summary>The double nearest to the JSON number <paramref name="text"/> (already checked to be one).</summary>
-    public static bool TryParse(ReadOnlySpan<byte> text, out double value)
+    /// <summary>The double nearest to <paramref name="text"/>, which must be one JSON number and nothing else.</summary>
+    public static bool TryParse(ReadOnlySpan<byte> text, out double value) => Read(text, 0, out value) == text.Length;
+
+    /// <summary>
+    /// Reads the JSON number (RFC 8259 section 6) that starts at <paramref name="at"/> into the nearest double, checking its
+    /// grammar as it goes; the index just after it, or -1 when no JSON number starts there. Eight digits at a time are
+    /// converted together (the technique of the paper above).
+    /// </summary>
+    public static int Read(ReadOnlySpan<byte> text, int at, out double value)
     {
-        int i = 0;
-        bool negative = text[0] == (byte)'-';
+        value = 0;
+        int i = at;
+        bool negative = i < text.Length && text[i] == (byte)'-';
         if (negative)
         {
             i++;
         }
 
-        ulong w = 0;
-        int digits = 0;
-        int exponent = 0;
-        while (i < text.Length && (uint)(text[i] - '0') <= 9)
+        if (i >= text.Length || !IsDigit(text[i]))
         {
-            if (w != 0 || text[i] != (byte)'0')
-            {
-                digits++;
-            }
-
-            w = w * 10 + (uint)(text[i] - '0');
-            i++;
+            return -1;
         }
 
+        int digitsFrom = i;
+        ulong w = 0;
+        if (text[i] == (byte)'0')
+        {
+            i++;
+        }
+        else
+        {
+            i = Digits(text, i, ref w);
+        }
+
+        int digits = i - digitsFrom;
+        int exponent = 0;
         if (i < text.Length && text[i] == (byte)'.')
         {
-            i++;
-            while (i < text.Length && (uint)(text[i] - '0') <= 9)
+            int fractionFrom = ++i;
+            i = Digits(text, i, ref w);
+            if (i == fractionFrom)
             {
-                if (w != 0 || text[i] != (byte)'0')
-                {
-                    digits++;
-                }
-
-                w = w * 10 + (uint)(text[i] - '0');
-                exponent--;
-                i++;
+                return -1;
             }
+
+            exponent = fractionFrom - i;
+            digits += i - fractionFrom;
         }
 
+        int end = i;
         if (i < text.Length && (text[i] | 0x20) == (byte)'e')
         {
             i++;
-            bool negativeExponent = text[i] == (byte)'-';
-            if (text[i] is (byte)'-' or (byte)'+')
+            bool negativeExponent = i < text.Length && text[i] == (byte)'-';
+            if (i < text.Length && text[i] is (byte)'-' or (byte)'+')
             {
                 i++;
             }
 
+            int exponentFrom = i;
             int e = 0;
-            while (i < text.Length && (uint)(text[i] - '0') <= 9)
+            while (i < text.Length && IsDigit(text[i]))
             {
                 if (e < 100_000)
                 {
@@ -78,21 +90,69 @@ public static class FastDouble
                 i++;
             }
 
+            if (i == exponentFrom)
+            {
+                return -1;
+            }
+
             exponent += negativeExponent ? -e : e;
+        }
+
+        // more than 19 digits may still be few significant ones after the leading zeros of 0.000...
+        if (digits > 19)
+        {
+            for (int k = digitsFrom; k < end && text[k] is (byte)'0' or (byte)'.'; k++)
+            {
+                digits -= text[k] == (byte)'0' ? 1 : 0;
+            }
         }
 
         if (digits <= 19 && TryEiselLemire(w, exponent, out value))
         {
-            if (negative)
-            {
-                value = -value;
-            }
-
-            return true;
+            value = negative ? -value : value;
+            return i;
         }
 
-        return double.TryParse(text, NumberStyles.Float, CultureInfo.InvariantCulture, out value);
+        return double.TryParse(text[at..i], NumberStyles.Float, CultureInfo.InvariantCulture, out value) ? i : -1;
     }
+
+    // Decimal digits from i into w (w * 10 + d each; past 19 digits w is not used), eight at a time while eight are there.
+    private static int Digits(ReadOnlySpan<byte> text, int i, ref ulong w)
+    {
+        while (i + 8 <= text.Length)
+        {
+            ulong chunk = BinaryPrimitives.ReadUInt64LittleEndian(text[i..]);
+            if (!AllDigits(chunk))
+            {
+                break;
+            }
+
+            w = unchecked(w * 100_000_000 + EightDigits(chunk));
+            i += 8;
+        }
+
+        while (i < text.Length && IsDigit(text[i]))
+        {
+            w = unchecked(w * 10 + (uint)(text[i] - '0'));
+            i++;
+        }
+
+        return i;
+    }
+
+    // True when all eight bytes are ASCII digits.
+    private static bool AllDigits(ulong chunk) =>
+        ((chunk & 0xF0F0F0F0F0F0F0F0) | (((chunk + 0x0606060606060606) & 0xF0F0F0F0F0F0F0F0) >> 4)) == 0x3333333333333333;
+
+    // The value of eight ASCII digits, the first in the lowest byte.
+    private static ulong EightDigits(ulong chunk)
+    {
+        ulong v = chunk - 0x3030303030303030;
+        v = (v * 10) + (v >> 8);
+        return (((v & 0x000000FF000000FF) * (100 + (1000000UL << 32))) + (((v >> 16) & 0x000000FF000000FF) * (1 + (10000UL << 32)))) >> 32;
+    }
+
+    private static bool IsDigit(byte c) => (uint)(c - '0') <= 9;
 
     private static bool TryEiselLemire(ulong w, int q, out double value)
     {

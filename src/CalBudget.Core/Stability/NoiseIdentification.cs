@@ -1,3 +1,6 @@
+using System.Buffers;
+using System.Runtime.Intrinsics;
+
 namespace CalBudget.Core.Stability;
 
 /// <summary>
@@ -12,71 +15,67 @@ internal sealed class NoiseIdentification
     public const int MinimumPoints = 30;
 
     private readonly ReadOnlyMemory<double> _values;
-    private readonly StabilityDataType _type;
-    private readonly double[] _prefix = [];   // frequency: prefix sums of the mean-removed readings (gaps as 0)
-    private readonly int[] _gapsBefore = [];  // frequency: gaps among the first k readings
+    private readonly PhaseSeries _series;
 
-    /// <summary>Prepares the readings once, so that each averaging factor costs O(N / m).</summary>
-    public NoiseIdentification(ReadOnlyMemory<double> readings, StabilityDataType type)
+    /// <summary>
+    /// Uses the phase already formed from <paramref name="readings"/> (its differences are the sums of m readings), so that
+    /// each averaging factor costs O(N / m).
+    /// </summary>
+    public NoiseIdentification(PhaseSeries series, ReadOnlyMemory<double> readings)
     {
+        _series = series;
         _values = readings;
-        var values = readings.Span;
-        _type = type;
-        if (type == StabilityDataType.Frequency)
-        {
-            double mean = PhaseSeries.MeanOfReadings(values).Mean;
-            _prefix = new double[values.Length + 1];
-            _gapsBefore = new int[values.Length + 1];
-            for (int i = 0; i < values.Length; i++)
-            {
-                bool gap = double.IsNaN(values[i]);
-                _prefix[i + 1] = _prefix[i] + (gap ? 0 : values[i] - mean);
-                _gapsBefore[i + 1] = _gapsBefore[i] + (gap ? 1 : 0);
-            }
-        }
     }
 
     /// <summary>The noise exponent alpha at m, or null when too few points remain (or the data are constant).</summary>
     public int? Identify(int m, int maxDifferences)
     {
-        var series = Reduce(m);
-        if (series.Length < MinimumPoints)
+        bool phase = _series.DataType == StabilityDataType.Phase;
+        double[] rented = ArrayPool<double>.Shared.Rent(_values.Length / m + 1);
+        try
         {
-            return null;
+            var series = Reduce(m, rented);
+            if (series.Length < MinimumPoints)
+            {
+                return null;
+            }
+
+            Detrend(series, phase ? 2 : 1);
+            for (int d = 0; ; d++)
+            {
+                double? r1 = LagOne(series);
+                if (r1 is null)
+                {
+                    return null;
+                }
+
+                double delta = r1.Value / (1 + r1.Value);
+                if (delta < 0.25 || d >= maxDifferences)
+                {
+                    int alpha = -(int)Math.Round(2 * delta, MidpointRounding.AwayFromZero) - 2 * d + (phase ? 2 : 0);
+                    return Math.Clamp(alpha, -2 * maxDifferences, 2);
+                }
+
+                series = Difference(series);
+                if (series.Length < MinimumPoints / 2)
+                {
+                    return null;
+                }
+            }
         }
-
-        Detrend(series, _type == StabilityDataType.Phase ? 2 : 1);
-        for (int d = 0; ; d++)
+        finally
         {
-            double? r1 = LagOne(series);
-            if (r1 is null)
-            {
-                return null;
-            }
-
-            double delta = r1.Value / (1 + r1.Value);
-            if (delta < 0.25 || d >= maxDifferences)
-            {
-                int alpha = -(int)Math.Round(2 * delta, MidpointRounding.AwayFromZero) - 2 * d + (_type == StabilityDataType.Phase ? 2 : 0);
-                return Math.Clamp(alpha, -2 * maxDifferences, 2);
-            }
-
-            series = Difference(series);
-            if (series.Length < MinimumPoints / 2)
-            {
-                return null;
-            }
+            ArrayPool<double>.Shared.Return(rented);
         }
     }
 
-    // Averages of m consecutive frequency readings (from the prefix sums), or every m-th phase reading; a block or a
-    // point with a gap is dropped.
-    private double[] Reduce(int m)
+    // Averages of m consecutive frequency readings (differences of the phase over m samples), or every m-th phase reading;
+    // a block or a point with a gap is dropped.
+    private Span<double> Reduce(int m, double[] z)
     {
         var values = _values.Span;
-        var z = new double[values.Length / m + 1];
         int count = 0;
-        if (_type == StabilityDataType.Phase)
+        if (_series.DataType == StabilityDataType.Phase)
         {
             for (int i = 0; i < values.Length; i += m)
             {
@@ -88,36 +87,29 @@ internal sealed class NoiseIdentification
         }
         else
         {
+            var x = _series.X;
+            double scale = 1 / (m * _series.Tau0);
             for (int start = 0; start + m <= values.Length; start += m)
             {
-                if (_gapsBefore[start + m] == _gapsBefore[start])
+                if (_series.Complete(start, start + m))
                 {
-                    z[count++] = (_prefix[start + m] - _prefix[start]) / m;
+                    z[count++] = (x[start + m] - x[start]) * scale;
                 }
             }
         }
 
-        return count == z.Length ? z : z[..count];
+        return z.AsSpan(0, count);
     }
 
     // Least-squares polynomial of degree 1 or 2 in the centred index t = i - (n - 1)/2, subtracted. With a centred index the
-    // odd power sums vanish, so the normal equations split: c1 = sum(t z) / sum(t^2), and c0, c2 from a 2 x 2 system.
-    private static void Detrend(double[] z, int degree)
+    // odd power sums vanish, so the normal equations split: c1 = sum(t z) / sum(t^2), and c0, c2 from a 2 x 2 system; the
+    // even power sums have closed forms.
+    private static void Detrend(Span<double> z, int degree)
     {
         int n = z.Length;
         double c = (n - 1) / 2.0;
-        double s0 = n, s2 = 0, s4 = 0, b0 = 0, b1 = 0, b2 = 0;
-        for (int i = 0; i < n; i++)
-        {
-            double t = i - c;
-            double t2 = t * t;
-            s2 += t2;
-            s4 += t2 * t2;
-            b0 += z[i];
-            b1 += t * z[i];
-            b2 += t2 * z[i];
-        }
-
+        double s0 = n, s2 = n * ((double)n * n - 1) / 12, s4 = n * ((double)n * n - 1) * (3.0 * n * n - 7) / 240;
+        var (b0, b1, b2) = Moments(z, c);
         double c1 = s2 > 0 ? b1 / s2 : 0;
         double c0 = b0 / s0, c2 = 0;
         if (degree == 2)
@@ -130,18 +122,80 @@ internal sealed class NoiseIdentification
             }
         }
 
-        for (int i = 0; i < n; i++)
+        int i = 0;
+        if (Vector256.IsHardwareAccelerated)
+        {
+            var t = Vector256.Create(-c, 1 - c, 2 - c, 3 - c);
+            var four = Vector256.Create(4.0);
+            var (v0, v1, v2) = (Vector256.Create(c0), Vector256.Create(c1), Vector256.Create(c2));
+            for (; i <= n - 4; i += 4, t += four)
+            {
+                var slice = z.Slice(i, 4);
+                (Vector256.Create<double>(slice) - (v0 + (v1 + v2 * t) * t)).CopyTo(slice);
+            }
+        }
+
+        for (; i < n; i++)
         {
             double t = i - c;
-            z[i] -= c0 + c1 * t + c2 * t * t;
+            z[i] -= c0 + (c1 + c2 * t) * t;
         }
     }
 
-    private static double? LagOne(double[] z)
+    // sum z, sum t z, sum t^2 z with t = i - c.
+    private static (double B0, double B1, double B2) Moments(ReadOnlySpan<double> z, double c)
     {
-        double mean = z.Average();
+        double b0 = 0, b1 = 0, b2 = 0;
+        int i = 0;
+        if (Vector256.IsHardwareAccelerated)
+        {
+            var t = Vector256.Create(-c, 1 - c, 2 - c, 3 - c);
+            var four = Vector256.Create(4.0);
+            Vector256<double> a0 = default, a1 = default, a2 = default;
+            for (; i <= z.Length - 4; i += 4, t += four)
+            {
+                var v = Vector256.Create(z.Slice(i, 4));
+                var tv = t * v;
+                a0 += v;
+                a1 += tv;
+                a2 += t * tv;
+            }
+
+            (b0, b1, b2) = (Vector256.Sum(a0), Vector256.Sum(a1), Vector256.Sum(a2));
+        }
+
+        for (; i < z.Length; i++)
+        {
+            double t = i - c;
+            b0 += z[i];
+            b1 += t * z[i];
+            b2 += t * t * z[i];
+        }
+
+        return (b0, b1, b2);
+    }
+
+    private static double? LagOne(ReadOnlySpan<double> z)
+    {
+        double mean = Sum(z) / z.Length;
         double num = 0, den = 0;
-        for (int i = 0; i < z.Length; i++)
+        int i = 0;
+        if (Vector256.IsHardwareAccelerated)
+        {
+            var mv = Vector256.Create(mean);
+            Vector256<double> an = default, ad = default;
+            for (; i <= z.Length - 5; i += 4)
+            {
+                var d = Vector256.Create(z.Slice(i, 4)) - mv;
+                var next = Vector256.Create(z.Slice(i + 1, 4)) - mv;
+                ad += d * d;
+                an += d * next;
+            }
+
+            (num, den) = (Vector256.Sum(an), Vector256.Sum(ad));
+        }
+
+        for (; i < z.Length; i++)
         {
             double d = z[i] - mean;
             den += d * d;
@@ -154,14 +208,37 @@ internal sealed class NoiseIdentification
         return den > 0 ? num / den : null;
     }
 
-    private static double[] Difference(double[] z)
+    private static double Sum(ReadOnlySpan<double> z)
     {
-        var d = new double[z.Length - 1];
-        for (int i = 0; i < d.Length; i++)
+        double sum = 0;
+        int i = 0;
+        if (Vector256.IsHardwareAccelerated)
         {
-            d[i] = z[i + 1] - z[i];
+            Vector256<double> acc = default;
+            for (; i <= z.Length - 4; i += 4)
+            {
+                acc += Vector256.Create(z.Slice(i, 4));
+            }
+
+            sum = Vector256.Sum(acc);
         }
 
-        return d;
+        for (; i < z.Length; i++)
+        {
+            sum += z[i];
+        }
+
+        return sum;
+    }
+
+    // First differences, in place: the series one shorter.
+    private static Span<double> Difference(Span<double> z)
+    {
+        for (int i = 0; i < z.Length - 1; i++)
+        {
+            z[i] = z[i + 1] - z[i];
+        }
+
+        return z[..^1];
     }
 }

@@ -1,18 +1,23 @@
+using System.Buffers;
+
 namespace CalBudget.Core.Stability;
 
 /// <summary>
 /// Readings prepared for the statistics: phase x_0..x_{N-1} (frequency data is integrated, x_{i+1} = x_i + y_i tau0),
 /// with a linear trend removed so that the differences are taken between small numbers (a linear phase term is annihilated
 /// exactly by every difference used, so this changes no statistic, only the rounding). Gaps (NaN readings) are kept as a
-/// prefix count, so that "does this term's span contain a gap?" costs O(1).
+/// prefix count, so that "does this term's span contain a gap?" costs O(1). The samples live in a pooled buffer until the
+/// series is disposed.
 /// </summary>
-internal sealed class PhaseSeries
+internal sealed class PhaseSeries : IDisposable
 {
     private readonly int[]? _gapsBefore; // _gapsBefore[k] = gaps among the first k readings (frequency: y, phase: x)
+    private double[]? _x;
 
-    private PhaseSeries(double[] x, double tau0, StabilityDataType type, int[]? gapsBefore, int gapCount)
+    private PhaseSeries(double[] x, int length, double tau0, StabilityDataType type, int[]? gapsBefore, int gapCount)
     {
-        X = x;
+        _x = x;
+        Length = length;
         Tau0 = tau0;
         DataType = type;
         _gapsBefore = gapsBefore;
@@ -20,10 +25,10 @@ internal sealed class PhaseSeries
     }
 
     /// <summary>Phase samples, detrended; 0 where a gap makes the value unknown (such samples are never used).</summary>
-    public double[] X { get; }
+    public ReadOnlySpan<double> X => (_x ?? throw new ObjectDisposedException(nameof(PhaseSeries))).AsSpan(0, Length);
 
     /// <summary>Phase sample count N.</summary>
-    public int Length => X.Length;
+    public int Length { get; }
 
     /// <summary>The sampling interval in seconds.</summary>
     public double Tau0 { get; }
@@ -72,11 +77,12 @@ internal sealed class PhaseSeries
             }
         }
 
-        double[] x;
+        int length = type == StabilityDataType.Frequency ? values.Length + 1 : values.Length;
+        double[] x = ArrayPool<double>.Shared.Rent(length);
         if (type == StabilityDataType.Frequency)
         {
             double mean = MeanOfReadings(values).Mean;
-            x = new double[values.Length + 1];
+            x[0] = 0;
             for (int i = 0; i < values.Length; i++)
             {
                 x[i + 1] = x[i] + (double.IsNaN(values[i]) ? 0 : (values[i] - mean) * tau0);
@@ -84,18 +90,37 @@ internal sealed class PhaseSeries
         }
         else
         {
-            x = values.ToArray();
-            int first = Array.FindIndex(x, v => !double.IsNaN(v));
-            int last = Array.FindLastIndex(x, v => !double.IsNaN(v));
-            double x0 = first >= 0 ? x[first] : 0;
-            double slope = last > first ? (x[last] - x0) / (last - first) : 0;
-            for (int i = 0; i < x.Length; i++)
+            int first = 0, last = values.Length - 1;
+            while (first < values.Length && double.IsNaN(values[first]))
             {
-                x[i] = double.IsNaN(x[i]) ? 0 : x[i] - x0 - slope * (i - first);
+                first++;
+            }
+
+            while (last >= 0 && double.IsNaN(values[last]))
+            {
+                last--;
+            }
+
+            first = first < values.Length ? first : -1;
+            double x0 = first >= 0 ? values[first] : 0;
+            double slope = last > first ? (values[last] - x0) / (last - first) : 0;
+            for (int i = 0; i < values.Length; i++)
+            {
+                x[i] = double.IsNaN(values[i]) ? 0 : values[i] - x0 - slope * (i - first);
             }
         }
 
-        return new PhaseSeries(x, tau0, type, before, gaps);
+        return new PhaseSeries(x, length, tau0, type, before, gaps);
+    }
+
+    /// <summary>Gives the samples' buffer back.</summary>
+    public void Dispose()
+    {
+        if (_x is { } x)
+        {
+            _x = null;
+            ArrayPool<double>.Shared.Return(x);
+        }
     }
 
     /// <summary>True when the term that uses phase samples first..last (inclusive) has no gap in its span.</summary>

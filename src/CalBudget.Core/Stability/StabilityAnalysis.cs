@@ -1,3 +1,4 @@
+using System.Collections.Concurrent;
 using MathNet.Numerics.Distributions;
 
 namespace CalBudget.Core.Stability;
@@ -65,7 +66,7 @@ public static class StabilityAnalysis
             }
         }
 
-        var series = PhaseSeries.From(values, type, tau0);
+        using var series = PhaseSeries.From(values, type, tau0);
         if (series.Length - series.GapCount < 3)
         {
             throw new MetrologyException("values", "At least three phase points (two frequency readings) are needed.") { NotComputable = true };
@@ -90,38 +91,53 @@ public static class StabilityAnalysis
         }
 
         bool hadamard = statistics.Contains(StabilityStatistic.Hdev) || statistics.Contains(StabilityStatistic.Ohdev);
-        var identification = new NoiseIdentification(readings, type);
+        var identification = new NoiseIdentification(series, readings);
         var noise = jobs.Select(j => j.M).Distinct().Order().AsParallel().AsOrdered()
             .Select(m => new NoisePoint(m, m * tau0, identification.Identify(m, hadamard ? 3 : 2)))
             .ToArray();
         var alphaAt = FillUnidentified(noise);
 
-        // TDEV is MDEV rescaled: each modified variance is computed once and shared.
-        var modified = new System.Collections.Concurrent.ConcurrentDictionary<int, Lazy<VarianceEstimate>>();
-        var points = jobs.AsParallel().Select(job =>
+        // One piece of work per averaging factor, shared by both cores, the largest first: without gaps one pass gives the
+        // sums of every overlapping statistic at that factor; each other variance is computed once (TDEV is MDEV rescaled);
+        // then each point's edf and interval.
+        bool shared = series.GapCount == 0;
+        var byFactor = jobs.GroupBy(j => j.M).Select(g => (M: g.Key, Jobs: g.ToArray())).OrderBy(g => g.M).ToArray();
+        var points = new ConcurrentBag<(StabilityStatistic Statistic, StabilityPoint Point)>();
+        Parallel.ForEach(Partitioner.Create(byFactor, EnumerablePartitionerOptions.NoBuffering), group =>
         {
-            var estimate = job.Statistic is StabilityStatistic.Mdev or StabilityStatistic.Tdev
-                ? modified.GetOrAdd(job.M, m => new Lazy<VarianceEstimate>(() => Deviations.Variance(series, StabilityStatistic.Mdev, m))).Value
-                : Deviations.Variance(series, job.Statistic, job.M);
-            if (estimate.Terms == 0 || !(estimate.Variance >= 0))
+            int m = group.M;
+            DifferenceSums? sums = shared && group.Jobs.Any(j => Deviations.UsesSums(j.Statistic)) ? Deviations.Sums(series.X, m) : null;
+            var estimates = new Dictionary<StabilityStatistic, VarianceEstimate>();
+            foreach (var job in group.Jobs)
             {
-                return (job.Statistic, Point: (StabilityPoint?)null);
-            }
+                var kind = Kind(job.Statistic);
+                if (!estimates.TryGetValue(kind, out var estimate))
+                {
+                    estimates[kind] = estimate = Deviations.Variance(series, kind, m, sums);
+                }
 
-            double tau = job.M * tau0;
-            double variance = job.Statistic == StabilityStatistic.Tdev ? estimate.Variance * tau * tau / 3 : estimate.Variance;
-            int alpha = alphaAt[job.M];
-            double edf = EquivalentDegreesOfFreedom.Compute(job.Statistic, alpha, job.M, estimate.Terms, series.Length);
-            return (job.Statistic, Point: (StabilityPoint?)new StabilityPoint(job.M, tau, Math.Sqrt(variance), estimate.Terms, edf,
-                Interval(Math.Sqrt(variance), edf), alpha));
-        }).ToArray();
+                if (estimate.Terms == 0 || !(estimate.Variance >= 0))
+                {
+                    continue;
+                }
+
+                double tau = m * tau0;
+                double variance = job.Statistic == StabilityStatistic.Tdev ? estimate.Variance * tau * tau / 3 : estimate.Variance;
+                int alpha = alphaAt[m];
+                double edf = EquivalentDegreesOfFreedom.Compute(job.Statistic, alpha, m, estimate.Terms, series.Length);
+                points.Add((job.Statistic, new StabilityPoint(m, tau, Math.Sqrt(variance), estimate.Terms, edf, Interval(Math.Sqrt(variance), edf), alpha)));
+            }
+        });
 
         var results = statistics.Distinct().ToDictionary(
             s => s,
-            s => (IReadOnlyList<StabilityPoint>)points.Where(p => p.Statistic == s && p.Point is not null)
-                .Select(p => p.Point!).OrderBy(p => p.AveragingFactor).ToArray());
+            s => (IReadOnlyList<StabilityPoint>)points.Where(p => p.Statistic == s).Select(p => p.Point).OrderBy(p => p.AveragingFactor).ToArray());
         return new StabilityResult(results, noise);
     }
+
+    // The variance a statistic is computed from: TDEV rescales the modified variance.
+    private static StabilityStatistic Kind(StabilityStatistic statistic) =>
+        statistic == StabilityStatistic.Tdev ? StabilityStatistic.Mdev : statistic;
 
     /// <summary>The octave factors 1, 2, 4 ... up to <paramref name="max"/>.</summary>
     public static IEnumerable<int> Octaves(int max)

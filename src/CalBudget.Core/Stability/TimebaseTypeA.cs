@@ -76,7 +76,8 @@ public static class TimebaseTypeA
             m *= 2;
         }
 
-        int? alpha = new NoiseIdentification(readings, StabilityDataType.Frequency).Identify(m, 2);
+        using var series = PhaseSeries.From(y, StabilityDataType.Frequency, tau0);
+        int? alpha = new NoiseIdentification(series, readings).Identify(m, 2);
         if (alpha is null)
         {
             return new TypeAEvaluation(mean, sdom, n - 1, TypeAEstimator.StandardDeviationOfMean, null,
@@ -94,7 +95,6 @@ public static class TimebaseTypeA
         // The Allan deviation at half the run, with the edf for the noise just identified (asking the full analysis for this
         // one factor would identify the noise again there, from too few points, and fall back to white FM).
         int half = Math.Max(1, y.Length / 2);
-        var series = PhaseSeries.From(y, StabilityDataType.Frequency, tau0);
         var estimate = Deviations.Variance(series, StabilityStatistic.Oadev, half);
         if (estimate.Terms == 0 || !(estimate.Variance >= 0))
         {

@@ -108,6 +108,44 @@ public class StabilityStatisticsTests
 
     [Theory]
     [InlineData(1)]
+    [InlineData(3)]
+    [InlineData(64)]
+    [InlineData(149)]
+    [InlineData(199)]
+    [InlineData(200)]
+    [InlineData(250)]
+    [InlineData(300)]
+    public void TheSharedPassMatchesTheTextbookWithoutGaps(int m)
+    {
+        // 600 readings, 601 phase points: the one pass per factor (vector lanes, their tails, and beyond MDEV's and OHDEV's
+        // reach at m > 200 only the second differences) against the textbook double loops
+        var random = new Random(m + 100);
+        var y = Enumerable.Range(0, 600).Select(_ => 1e-11 * (random.NextDouble() - 0.5) + 3e-9).ToArray();
+        var r = Analyse(y, [m], StabilityDataType.Frequency,
+            StabilityStatistic.Oadev, StabilityStatistic.Mdev, StabilityStatistic.Tdev, StabilityStatistic.Ohdev, StabilityStatistic.Totdev);
+        void Same(StabilityStatistic s, (double Dev, int Count) expected, bool reachable)
+        {
+            Assert.Equal(reachable ? 1 : 0, r.Results[s].Count);
+            if (reachable)
+            {
+                Assert.Equal(expected.Count, r.Results[s][0].Count);
+                Check.Relative(expected.Dev, r.Results[s][0].Deviation, 1e-9, $"{s} m {m}");
+            }
+        }
+
+        Same(StabilityStatistic.Oadev, TextbookDeviations.Oadev(y, m), m <= 300);
+        Same(StabilityStatistic.Totdev, TextbookDeviations.Totdev(y, m), m <= 300);
+        Same(StabilityStatistic.Mdev, m <= 200 ? TextbookDeviations.Mdev(y, m) : default, m <= 200);
+        Same(StabilityStatistic.Ohdev, m <= 200 ? TextbookDeviations.Ohdev(y, m) : default, m <= 200);
+        if (m <= 200)
+        {
+            // TDEV is MDEV rescaled by tau / sqrt(3) (SP 1065 eq. (15))
+            Check.Relative(r.Results[StabilityStatistic.Mdev][0].Deviation * m / Math.Sqrt(3), r.Results[StabilityStatistic.Tdev][0].Deviation, 1e-12);
+        }
+    }
+
+    [Theory]
+    [InlineData(1)]
     [InlineData(9)]
     [InlineData(150)]
     public void TotdevMatchesTheTextbookReflection(int m)
