@@ -84,14 +84,32 @@ public sealed class SqliteDatabase : IDbConnectionFactory
 
     /// <summary>
     /// Copies the write-ahead log into the database file as far as readers allow (PASSIVE), or all of it and empties the log
-    /// (TRUNCATE, waiting for readers and writers up to the busy timeout). Returns the log's size and how much was copied, in pages.
+    /// (TRUNCATE, waiting for readers and writers up to <paramref name="wait"/>, by default the busy timeout; meanwhile new
+    /// writers wait). Returns whether it did all it was asked, the log's size and how much was copied, in pages.
     /// </summary>
-    public async Task<(long LogPages, long CopiedPages)> CheckpointAsync(bool truncate, CancellationToken cancellationToken = default)
+    public async Task<(bool Complete, long LogPages, long CopiedPages)> CheckpointAsync(bool truncate, TimeSpan? wait = null,
+        CancellationToken cancellationToken = default)
     {
         await using var connection = await OpenAsync(cancellationToken).ConfigureAwait(false);
-        var row = await connection.QuerySingleAsync<(long Busy, long Log, long Copied)>(
-            truncate ? "PRAGMA wal_checkpoint(TRUNCATE);" : "PRAGMA wal_checkpoint(PASSIVE);").ConfigureAwait(false);
-        return (row.Log, row.Copied);
+        if (wait is { } bound)
+        {
+            await connection.ExecuteAsync($"PRAGMA busy_timeout = {(long)bound.TotalMilliseconds:D};").ConfigureAwait(false);
+        }
+
+        try
+        {
+            var row = await connection.QuerySingleAsync<(long Busy, long Log, long Copied)>(
+                truncate ? "PRAGMA wal_checkpoint(TRUNCATE);" : "PRAGMA wal_checkpoint(PASSIVE);").ConfigureAwait(false);
+            return (row.Busy == 0 && (!truncate || row.Log == 0), row.Log, row.Copied);
+        }
+        finally
+        {
+            if (wait is not null)
+            {
+                // the connection goes back to the pool with the session's usual timeout
+                await connection.ExecuteAsync("PRAGMA busy_timeout = 10000;").ConfigureAwait(false);
+            }
+        }
     }
 
     /// <summary>Switches the file to write-ahead logging; the mode is stored in the file, so once is enough.</summary>

@@ -123,6 +123,73 @@ public sealed class HostileInputTests : IDisposable
         }
     }
 
+    [Fact]
+    public async Task MutatedBudgetBuildsAreAnsweredWithoutAServerErrorAndStoreOnlyWhatSucceeds()
+    {
+        var tech = await _factory.ClientAsync("technician");
+        long run = await LabRecords.RunWithReadingsAsync(tech, "CB-0870");
+        string valid = "{\"runId\":" + run + ""","templateId":"ocxo-counter","posturePolicy":{"kind":"tilt-limit","tiltLimitDegrees":20},"overrides":[{"name":"temperature","halfWidth":2e-10,"reason":"chamber log"}],"monteCarlo":{"trials":20000,"seed":5}}""";
+        async Task<int> CountAsync() => (await Json.ReadAsync(await tech.GetAsync($"/api/v1/budgets?runId={run}&limit=200"), HttpStatusCode.OK))["items"]!.AsArray().Count;
+        int stored = await CountAsync();
+        foreach (var body in Mutations(Encoding.UTF8.GetBytes(valid)).Sample(30, Seed(4), 120))
+        {
+            var content = new ByteArrayContent(body);
+            content.Headers.ContentType = new("application/json");
+            var answer = await tech.PostAsync("/api/v1/budgets", content);
+            Assert.True((int)answer.StatusCode < 500, $"{(int)answer.StatusCode} for {Encoding.UTF8.GetString(body)}");
+            if (answer.StatusCode == HttpStatusCode.Created)
+            {
+                stored++;
+            }
+            else
+            {
+                Assert.Equal("application/problem+json", answer.Content.Headers.ContentType?.MediaType);
+            }
+
+            Assert.Equal(stored, await CountAsync()); // a refused build leaves nothing behind
+        }
+    }
+
+    [Fact]
+    public async Task MutatedStabilityBodiesGetTheSameAnswerFromTheScannerAndTheSerializer()
+    {
+        // The readings scanner is a faster route, not another contract: for any body, the answer (status and content)
+        // must be the one the serializer gives when the property is spelt "Values", which the scanner leaves alone.
+        var client = await _factory.ClientAsync("integration");
+        var random = new Random(6);
+        string readings = string.Join(", ", Enumerable.Range(0, 300).Select(i => i % 50 == 7 ? "null" : (2e-9 + 1e-11 * random.NextDouble()).ToString(i % 2 == 0 ? "R" : "E6", System.Globalization.CultureInfo.InvariantCulture)));
+        string valid = """{"dataType":"frequency","tau0":1,"statistics":["oadev","mdev"],"values":[""" + readings + "]}";
+        foreach (var body in Mutations(Encoding.UTF8.GetBytes(valid)).Sample(30, Seed(5), 200))
+        {
+            string text = Encoding.UTF8.GetString(body);
+            if (body.AsSpan().IndexOf("\"values\""u8) < 0 || body.AsSpan().IndexOf("\"Values\""u8) >= 0)
+            {
+                continue; // the mutation hit the property name itself
+            }
+
+            // byte for byte the same body, the property spelt "Values" wherever it occurs
+            byte[] spelt = [.. body];
+            for (int at = 0; (at = spelt.AsSpan().IndexOf("\"values\""u8)) >= 0;)
+            {
+                spelt[at + 1] = (byte)'V';
+            }
+
+            async Task<(HttpStatusCode, string)> AskAsync(byte[] bytes)
+            {
+                var content = new ByteArrayContent(bytes);
+                content.Headers.ContentType = new("application/json");
+                var answer = await client.PostAsync("/api/v1/stability", content);
+                Assert.True((int)answer.StatusCode < 500, $"{(int)answer.StatusCode} for {Encoding.UTF8.GetString(bytes)}");
+                string reply = await answer.Content.ReadAsStringAsync();
+                return (answer.StatusCode, answer.StatusCode == HttpStatusCode.OK ? reply : "");
+            }
+
+            var scanner = await AskAsync(body);
+            var serializer = await AskAsync(spelt);
+            Assert.True(scanner == serializer, $"scanner {scanner.Item1}, serializer {serializer.Item1} for {text}");
+        }
+    }
+
     [Theory]
     [InlineData("deep")]
     [InlineData("long-name")]

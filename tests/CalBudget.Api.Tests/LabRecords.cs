@@ -56,4 +56,29 @@ internal static class LabRecords
 
     public static JsonNode? Field(JsonNode node, string path) =>
         path.Split('.').Aggregate<string, JsonNode?>(node, (n, key) => n?[key]);
+
+    /// <summary>
+    /// An OCXO instrument with a specification the budget templates use, a reference, a run on them and 200 readings
+    /// uploaded; the run's id.
+    /// </summary>
+    public static async Task<long> RunWithReadingsAsync(HttpClient client, string asset)
+    {
+        string instrument = $$"""
+        { "assetNumber": "{{asset}}", "customer": "Northfield Avionics", "manufacturer": "Quillon Instruments", "model": "FC-900",
+          "timebase": { "oscillatorKind": "OCXO", "nominalFrequencyHz": 10000000,
+            "specification": { "agingPerDay": 5e-10, "temperatureCoefficientPerKelvin": 1e-10, "accelerationSensitivityPerG": 1e-9, "retrace": 5e-9 } },
+          "postures": [ { "name": "standing on its feet", "up": "+z" } ] }
+        """;
+        long instrumentId = (await Json.PostAsync(client, "/api/v1/instruments", instrument, HttpStatusCode.Created))["id"]!.GetValue<long>();
+        long referenceId = await ReferenceAsync(client, "RB-" + asset);
+        long run = (await Json.PostAsync(client, "/api/v1/calibrations", RunBody(instrumentId, referenceId), HttpStatusCode.Created))["id"]!.GetValue<long>();
+        var csv = new System.Text.StringBuilder("timestamp,fractionalOffset\n");
+        for (int k = 0; k < 200; k++)
+        {
+            csv.Append(System.Globalization.CultureInfo.InvariantCulture, $"2026-11-30T09:{k / 60:00}:{k % 60:00}Z,{2e-9 + 1e-12 * (k % 7)}\n");
+        }
+
+        await Json.ReadAsync(await client.PostAsync($"/api/v1/calibrations/{run}/readings", new StringContent(csv.ToString(), System.Text.Encoding.UTF8, "text/csv")), HttpStatusCode.Created);
+        return run;
+    }
 }

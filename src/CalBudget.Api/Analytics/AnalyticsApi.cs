@@ -56,7 +56,7 @@ public static class AnalyticsApi
         try
         {
             using var input = await StabilityBody.ReadAsync(http, json.Value.SerializerOptions, ct);
-            return Evaluate(input.Request, input.Values);
+            return Evaluate(input.Request, input.Values, ct);
         }
         catch (JsonException ex)
         {
@@ -64,7 +64,7 @@ public static class AnalyticsApi
         }
     }
 
-    private static Results<Ok<StabilityResponse>, ProblemHttpResult> Evaluate(StabilityRequest request, ReadOnlyMemory<double>? readings)
+    private static Results<Ok<StabilityResponse>, ProblemHttpResult> Evaluate(StabilityRequest request, ReadOnlyMemory<double>? readings, CancellationToken ct)
     {
         var errors = new FieldErrors();
         StabilityDataType? type = request.DataType switch
@@ -124,7 +124,7 @@ public static class AnalyticsApi
 
         try
         {
-            var result = StabilityAnalysis.Analyse(readings!.Value, type.Value, tau0.Value, statistics, request.AveragingFactors?.ToArray());
+            var result = StabilityAnalysis.Analyse(readings!.Value, type.Value, tau0.Value, statistics, request.AveragingFactors?.ToArray(), ct);
             return TypedResults.Ok(new StabilityResponse(
                 result.Results.ToDictionary(r => r.Key.ToString().ToLowerInvariant(), r => r.Value.Select(p =>
                     new StabilityPointDto(p.AveragingFactor, p.Tau, p.Deviation, p.Count, p.DegreesOfFreedom, [p.Interval.Low, p.Interval.High])).ToArray()),

@@ -39,19 +39,21 @@ public static class BudgetsApi
     }
 
     /// <summary>POST /api/v1/budgets/evaluate.</summary>
-    public static Results<Ok<EvaluateResponse>, ProblemHttpResult> Evaluate(EvaluateRequest request, IOptions<CalBudgetOptions> options)
+    public static Results<Ok<EvaluateResponse>, ProblemHttpResult> Evaluate(EvaluateRequest request, IOptions<CalBudgetOptions> options, CancellationToken ct)
     {
         ArgumentNullException.ThrowIfNull(request);
         ArgumentNullException.ThrowIfNull(options);
-        var (response, problem) = Compute(request, options.Value.MonteCarloMaxTrials);
+        var (response, problem) = Compute(request, options.Value.MonteCarloMaxTrials, ct);
         return response is not null ? TypedResults.Ok(response) : problem!;
     }
 
     /// <summary>
     /// The evaluation behind POST /api/v1/budgets/evaluate, also used for stored budgets: the answer, or the problem. A
-    /// Monte Carlo request without a seed gets a random one, returned in the answer.
+    /// Monte Carlo request without a seed gets a random one, returned in the answer. The Monte Carlo run stops at
+    /// <paramref name="cancellationToken"/> (a request's time limit) with an <see cref="OperationCanceledException"/>.
     /// </summary>
-    public static (EvaluateResponse? Response, ProblemHttpResult? Problem) Compute(EvaluateRequest request, long maxTrials)
+    public static (EvaluateResponse? Response, ProblemHttpResult? Problem) Compute(EvaluateRequest request, long maxTrials,
+        CancellationToken cancellationToken = default)
     {
         ArgumentNullException.ThrowIfNull(request);
         try
@@ -77,6 +79,7 @@ public static class BudgetsApi
                     Trials = settings.Trials,
                     Seed = settings.Seed ?? BitConverter.ToUInt64(RandomNumberGenerator.GetBytes(8)),
                     MaxTrials = maxTrials,
+                    Cancellation = cancellationToken,
                 };
                 mc = MonteCarloEngine.Run(budget, mcOptions, gum);
             }

@@ -404,7 +404,7 @@ public static class StoredBudgetsApi
         var mc = monteCarlo is null ? null : monteCarlo with { Seed = monteCarlo.Seed ?? BitConverter.ToUInt64(System.Security.Cryptography.RandomNumberGenerator.GetBytes(8)) };
         var evaluate = new EvaluateRequest($"fractional frequency offset of the timebase of {instrument.Fields.AssetNumber}", template.CoverageProbability,
             lines.Select(l => l.Input).ToArray(), null, mc);
-        var (result, problem) = BudgetsApi.Compute(evaluate, options.Value.MonteCarloMaxTrials);
+        var (result, problem) = BudgetsApi.Compute(evaluate, options.Value.MonteCarloMaxTrials, ct);
         if (problem is not null)
         {
             return new Built(null, null, null, problem);

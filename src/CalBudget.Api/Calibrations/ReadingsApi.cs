@@ -62,7 +62,8 @@ public static class ReadingsApi
             .Produces<ReadingUploadDto>(StatusCodes.Status201Created)
             .ProducesValidationProblem(StatusCodes.Status400BadRequest).ProducesProblem(StatusCodes.Status404NotFound)
             .ProducesProblem(StatusCodes.Status409Conflict).ProducesProblem(StatusCodes.Status413PayloadTooLarge)
-            .ProducesProblem(StatusCodes.Status415UnsupportedMediaType).ProducesValidationProblem(StatusCodes.Status422UnprocessableEntity);
+            .ProducesProblem(StatusCodes.Status415UnsupportedMediaType).ProducesValidationProblem(StatusCodes.Status422UnprocessableEntity)
+            .WithRequestTimeout(RequestTimeLimits.LongPolicy);
         return routes;
     }
 

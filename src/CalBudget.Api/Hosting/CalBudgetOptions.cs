@@ -42,6 +42,12 @@ public sealed class CalBudgetOptions
     /// <summary>How long a verified API key is remembered before the database is asked again (0 turns the cache off).</summary>
     public TimeSpan KeyCacheLifetime { get; set; } = TimeSpan.FromSeconds(5);
 
+    /// <summary>How long a request may take before it is stopped with 503 (uploads of readings: <see cref="LongRequestTimeout"/>).</summary>
+    public TimeSpan RequestTimeout { get; set; } = TimeSpan.FromSeconds(30);
+
+    /// <summary>How long an upload of readings may take before it is stopped with 503.</summary>
+    public TimeSpan LongRequestTimeout { get; set; } = TimeSpan.FromMinutes(5);
+
     /// <summary>How long a graceful shutdown waits for requests in flight.</summary>
     public TimeSpan ShutdownTimeout { get; set; } = TimeSpan.FromSeconds(30);
 }

@@ -88,6 +88,7 @@ public static class HostingExtensions
         builder.Services.AddSingleton<UserAccounts>();
         builder.Services.AddRazorComponents();
         builder.Services.AddCalBudgetRateLimits();
+        builder.Services.AddCalBudgetRequestTimeouts(settings);
         builder.Services.AddAntiforgery(o =>
         {
             o.Cookie.Name = "calbudget.antiforgery";
@@ -152,6 +153,7 @@ public static class HostingExtensions
         });
         app.UseMiddleware<RequestBodyLimitMiddleware>();
         app.UseRateLimiter();
+        app.UseRequestTimeouts();
         app.UseAuthentication();
         app.UseAuthorization();
         app.UseAntiforgery();

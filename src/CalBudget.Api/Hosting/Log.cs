@@ -20,4 +20,7 @@ internal static partial class Log
 
     [LoggerMessage(6, LogLevel.Warning, "Write-ahead log checkpoint failed; it is retried")]
     public static partial void CheckpointFailed(ILogger logger, Exception exception);
+
+    [LoggerMessage(7, LogLevel.Debug, "Write-ahead log at {Pages} pages: emptied {Emptied}")]
+    public static partial void LogEmptied(ILogger logger, long pages, bool emptied);
 }

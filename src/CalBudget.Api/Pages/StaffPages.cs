@@ -433,7 +433,7 @@ public static class StaffPages
         var points = new List<RunDetail.Point>();
         if (y.Length >= 3)
         {
-            var analysis = StabilityAnalysis.Analyse(y, StabilityDataType.Frequency, run.GateTimeSeconds, [StabilityStatistic.Oadev]);
+            var analysis = StabilityAnalysis.Analyse(y, StabilityDataType.Frequency, run.GateTimeSeconds, [StabilityStatistic.Oadev], cancellationToken: ct);
             foreach (var p in analysis.Results[StabilityStatistic.Oadev])
             {
                 var noise = analysis.Noise.FirstOrDefault(n => n.AveragingFactor == p.AveragingFactor)?.Alpha;
@@ -460,7 +460,7 @@ public static class StaffPages
         var data = new Reports.StabilityPlot("", [], [], [], [], "");
         if (y.Length >= 3)
         {
-            var points = StabilityAnalysis.Analyse(y, StabilityDataType.Frequency, run.Fields.GateTimeSeconds, [StabilityStatistic.Oadev]).Results[StabilityStatistic.Oadev]
+            var points = StabilityAnalysis.Analyse(y, StabilityDataType.Frequency, run.Fields.GateTimeSeconds, [StabilityStatistic.Oadev], cancellationToken: ct).Results[StabilityStatistic.Oadev]
                 .Where(p => p.Deviation > 0).ToArray();
             data = new Reports.StabilityPlot("", points.Select(p => p.Tau).ToArray(), points.Select(p => p.Deviation).ToArray(),
                 points.Select(p => p.Interval.Low).ToArray(), points.Select(p => p.Interval.High).ToArray(), "");

@@ -35,7 +35,7 @@ public static class MonteCarloEngine
 
         var model = new SampledModel(budget);
         double p = budget.CoverageProbability;
-        var parallel = new ParallelOptions { MaxDegreeOfParallelism = options.MaxDegreeOfParallelism ?? Environment.ProcessorCount };
+        var parallel = new ParallelOptions { MaxDegreeOfParallelism = options.MaxDegreeOfParallelism ?? Environment.ProcessorCount, CancellationToken = options.Cancellation };
         MonteCarloResult result = options.Trials is { } fixedTrials
             ? RunFixed(model, p, fixedTrials, options, parallel)
             : RunAdaptive(model, p, options, parallel);
@@ -126,9 +126,9 @@ public static class MonteCarloEngine
             Parallel.For(0, count, parallel, b =>
             {
                 var v = new double[batch];
-                waveMoments[b] = model.Fill(v, options.Seed, stream: first + b, new ParallelOptions { MaxDegreeOfParallelism = 1 });
+                waveMoments[b] = model.Fill(v, options.Seed, stream: first + b, new ParallelOptions { MaxDegreeOfParallelism = 1, CancellationToken = options.Cancellation });
                 var (mean, sd) = Moments.Deviation(waveMoments[b]);
-                var (sym, _) = CoverageIntervals.Compute(v, p, waveMoments[b].Min, waveMoments[b].Max, new ParallelOptions { MaxDegreeOfParallelism = 1 });
+                var (sym, _) = CoverageIntervals.Compute(v, p, waveMoments[b].Min, waveMoments[b].Max, new ParallelOptions { MaxDegreeOfParallelism = 1, CancellationToken = options.Cancellation });
                 blocks[b] = v;
                 waveStats[b] = (mean, sd, sym.Low, sym.High);
             });

@@ -26,4 +26,7 @@ public sealed record MonteCarloOptions
 
     /// <summary>Largest number of threads to use; null uses every core.</summary>
     public int? MaxDegreeOfParallelism { get; init; }
+
+    /// <summary>Stops the run between chunks of trials (an <see cref="OperationCanceledException"/>), e.g. at a request's time limit.</summary>
+    public CancellationToken Cancellation { get; init; }
 }

@@ -41,10 +41,12 @@ public static class StabilityAnalysis
 
     /// <summary>
     /// Analyses <paramref name="readings"/>. NaN readings are gaps: a term whose span holds one is left out (TOTDEV, whose
-    /// reflected extension has no meaning across gaps, refuses them).
+    /// reflected extension has no meaning across gaps, refuses them). <paramref name="cancellationToken"/> stops the work
+    /// between averaging factors with an <see cref="OperationCanceledException"/>.
     /// </summary>
     public static StabilityResult Analyse(ReadOnlyMemory<double> readings, StabilityDataType type, double tau0,
-        IReadOnlyCollection<StabilityStatistic> statistics, IReadOnlyCollection<int>? averagingFactors = null)
+        IReadOnlyCollection<StabilityStatistic> statistics, IReadOnlyCollection<int>? averagingFactors = null,
+        CancellationToken cancellationToken = default)
     {
         var values = readings.Span;
         ArgumentNullException.ThrowIfNull(statistics);
@@ -92,7 +94,7 @@ public static class StabilityAnalysis
 
         bool hadamard = statistics.Contains(StabilityStatistic.Hdev) || statistics.Contains(StabilityStatistic.Ohdev);
         var identification = new NoiseIdentification(series, readings);
-        var noise = jobs.Select(j => j.M).Distinct().Order().AsParallel().AsOrdered()
+        var noise = jobs.Select(j => j.M).Distinct().Order().AsParallel().AsOrdered().WithCancellation(cancellationToken)
             .Select(m => new NoisePoint(m, m * tau0, identification.Identify(m, hadamard ? 3 : 2)))
             .ToArray();
         var alphaAt = FillUnidentified(noise);
@@ -103,7 +105,8 @@ public static class StabilityAnalysis
         bool shared = series.GapCount == 0;
         var byFactor = jobs.GroupBy(j => j.M).Select(g => (M: g.Key, Jobs: g.ToArray())).OrderBy(g => g.M).ToArray();
         var points = new ConcurrentBag<(StabilityStatistic Statistic, StabilityPoint Point)>();
-        Parallel.ForEach(Partitioner.Create(byFactor, EnumerablePartitionerOptions.NoBuffering), group =>
+        var parallel = new ParallelOptions { CancellationToken = cancellationToken };
+        Parallel.ForEach(Partitioner.Create(byFactor, EnumerablePartitionerOptions.NoBuffering), parallel, group =>
         {
             int m = group.M;
             DifferenceSums? sums = shared && group.Jobs.Any(j => Deviations.UsesSums(j.Statistic)) ? Deviations.Sums(series.X, m) : null;
