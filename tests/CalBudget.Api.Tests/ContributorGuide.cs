@@ -23,7 +23,22 @@ public static partial class ContributorGuide
     /// The "Roles" section's operations table: for each operation written in a row ("GET /api/v1/budgets/{id}"), the roles
     /// whose cell is not a refusal (401 or 403), or null when the "no key" cell is not a refusal either (open to all).
     /// </summary>
-    public static IReadOnlyDictionary<string, string[]?> OperationRoles(IReadOnlyList<string> roles)
+    public static IReadOnlyDictionary<string, string[]?> OperationRoles(IReadOnlyList<string> roles) =>
+        Table("| operation |", roles, (cells, header) => Refusal(cells[Column(header, "no key")]));
+
+    /// <summary>
+    /// The "Roles" section's pages table: for each page ("GET /instruments/{id}"), the roles whose cell is "yes", or null
+    /// when every cell is "open" (no sign-in needed).
+    /// </summary>
+    public static IReadOnlyDictionary<string, string[]?> PageRoles(IReadOnlyList<string> roles) =>
+        Table("| page |", roles, (cells, _) => cells.Skip(1).Any(c => c != "open"));
+
+    private static int Column(string[] header, string name) =>
+        Array.IndexOf(header, name) is int i and >= 0 ? i : throw new InvalidOperationException($"The roles table has no \"{name}\" column");
+
+    // The table under "### Roles" whose header starts with headerStart: operation to the roles not refused, or null when
+    // the row is open to all (restricted says whether it is not).
+    private static Dictionary<string, string[]?> Table(string headerStart, IReadOnlyList<string> roles, Func<string[], string[], bool> restricted)
     {
         string text = Text();
         int section = text.IndexOf("### Roles", StringComparison.Ordinal);
@@ -32,15 +47,15 @@ public static partial class ContributorGuide
             throw new InvalidOperationException("DEVELOPERS.md has no \"### Roles\" section");
         }
 
-        var lines = text[section..].Split('\n').Select(l => l.Trim()).SkipWhile(l => !l.StartsWith("| operation |", StringComparison.Ordinal))
+        var lines = text[section..].Split('\n').Select(l => l.Trim()).SkipWhile(l => !l.StartsWith(headerStart, StringComparison.Ordinal))
             .TakeWhile(l => l.StartsWith('|')).ToArray();
-        var header = Cells(lines[0]);
-        int[] columns = [.. roles.Select(r => Array.IndexOf(header, r))];
-        int noKey = Array.IndexOf(header, "no key");
-        if (columns.Any(c => c < 0) || noKey < 0)
+        if (lines.Length < 3)
         {
-            throw new InvalidOperationException("The roles table's header lacks a role or the \"no key\" column: " + lines[0]);
+            throw new InvalidOperationException($"DEVELOPERS.md has no table starting \"{headerStart}\" under \"### Roles\"");
         }
+
+        var header = Cells(lines[0]);
+        int[] columns = [.. roles.Select(r => Column(header, r))];
 
         var table = new Dictionary<string, string[]?>(StringComparer.Ordinal);
         foreach (string line in lines.Skip(2))
@@ -52,12 +67,12 @@ public static partial class ContributorGuide
                 throw new InvalidOperationException("A row of the roles table names no operation: " + line);
             }
 
-            string[]? allowed = Refusal(cells[noKey]) ? [.. roles.Where((_, i) => !Refusal(cells[columns[i]]))] : null;
+            string[]? allowed = restricted(cells, header) ? [.. roles.Where((_, i) => !Refusal(cells[columns[i]]))] : null;
             foreach (string operation in operations)
             {
                 if (!table.TryAdd(operation, allowed))
                 {
-                    throw new InvalidOperationException($"{operation} has two rows in the roles table");
+                    throw new InvalidOperationException($"{operation} has two rows in the table starting \"{headerStart}\"");
                 }
             }
         }

@@ -9,47 +9,55 @@ using Microsoft.Extensions.DependencyInjection;
 namespace CalBudget.Api.Tests;
 
 /// <summary>
-/// The staff pages' role table (DEVELOPERS.md), by hand, against every page the service maps: signed out, every page
+/// The staff pages' role table as the contributor guide (DEVELOPERS.md, "Roles") states it, against every page the
+/// service maps: signed out, every page
 /// but sign-in sends to /sign-in; signed in with each role, a page the role may not use answers 403 or sends to /denied,
 /// enforced on the server whatever the page shows. An API key opens no page.
 /// </summary>
 public sealed partial class PageRoleMatrixTests : IDisposable
 {
-    private const string T = "technician", A = "approver", U = "auditor", I = "integration", D = "admin";
-    private static readonly string[] Everyone = [T, A, U, I, D];
-    private static readonly string[] Writers = [T, I];
+    private const string T = "technician", I = "integration", D = "admin";
+    private static readonly string[] Everyone = [T, "approver", "auditor", I, D];
+    private static readonly Lazy<IReadOnlyDictionary<string, string[]?>> Guide = new(() => ContributorGuide.PageRoles(Everyone));
 
-    private static readonly (string Method, string Route, string Path, string[]? Roles)[] Matrix =
+    // Each page (method, route as mapped, a concrete path) with its roles from the guide (null: no sign-in needed).
+    private static (string Method, string Route, string Path, string[]? Roles)[] Matrix => Pages.Select(p =>
+        (p.Method, p.Route, p.Path, Guide.Value.TryGetValue($"{p.Method} {Documented(p.Route)}", out var roles) ? roles
+            : throw new InvalidOperationException($"{p.Method} {Documented(p.Route)} has no row in the guide's pages table"))).ToArray();
+
+    private static string Documented(string route) => Regex.Replace(route, @"\{(\w+):[^}]+\}", "{$1}");
+
+    private static readonly (string Method, string Route, string Path)[] Pages =
     [
-        ("GET", "/static/site.css", "/static/site.css", null),
-        ("GET", "/sign-in", "/sign-in", null),
-        ("POST", "/sign-in", "/sign-in", null),
-        ("GET", "/", "/", Everyone),
-        ("POST", "/sign-out", "/sign-out", Everyone),
-        ("GET", "/denied", "/denied", Everyone),
-        ("GET", "/instruments", "/instruments", Everyone),
-        ("GET", "/instruments/new", "/instruments/new", Writers),
-        ("POST", "/instruments/new", "/instruments/new", Writers),
-        ("GET", "/instruments/{id:long}", "/instruments/999", Everyone),
-        ("GET", "/instruments/{id:long}/edit", "/instruments/999/edit", Writers),
-        ("POST", "/instruments/{id:long}/edit", "/instruments/999/edit", Writers),
-        ("GET", "/references", "/references", Everyone),
-        ("GET", "/admin", "/admin", [D]),
-        ("POST", "/admin/users", "/admin/users", [D]),
-        ("POST", "/admin/keys", "/admin/keys", [D]),
-        ("POST", "/admin/keys/revoke", "/admin/keys/revoke", [D]),
-        ("POST", "/budgets/{id:long}/versions", "/budgets/999/versions", Writers),
-        ("GET", "/budgets/{id:long}/diff", "/budgets/999/diff?from=1&to=2", Everyone),
-        ("GET", "/instruments/{id:long}/runs/new", "/instruments/999/runs/new", Writers),
-        ("POST", "/instruments/{id:long}/runs/new", "/instruments/999/runs/new", Writers),
-        ("GET", "/runs/{id:long}", "/runs/999", Everyone),
-        ("GET", "/runs/{id:long}/stability.png", "/runs/999/stability.png", Everyone),
-        ("POST", "/runs/{id:long}/budgets", "/runs/999/budgets", Writers),
-        ("GET", "/budgets/{id:long}", "/budgets/999", Everyone),
-        ("POST", "/budgets/{id:long}/approve", "/budgets/999/approve", [A]),
-        ("POST", "/budgets/{id:long}/certificates", "/budgets/999/certificates", [T, A, I]),
-        ("GET", "/certificates/{id:long}.pdf", "/certificates/999.pdf", Everyone),
-        ("GET", "/audit", "/audit", [U, D]),
+        ("GET", "/static/site.css", "/static/site.css"),
+        ("GET", "/sign-in", "/sign-in"),
+        ("POST", "/sign-in", "/sign-in"),
+        ("GET", "/", "/"),
+        ("POST", "/sign-out", "/sign-out"),
+        ("GET", "/denied", "/denied"),
+        ("GET", "/instruments", "/instruments"),
+        ("GET", "/instruments/new", "/instruments/new"),
+        ("POST", "/instruments/new", "/instruments/new"),
+        ("GET", "/instruments/{id:long}", "/instruments/999"),
+        ("GET", "/instruments/{id:long}/edit", "/instruments/999/edit"),
+        ("POST", "/instruments/{id:long}/edit", "/instruments/999/edit"),
+        ("GET", "/references", "/references"),
+        ("GET", "/admin", "/admin"),
+        ("POST", "/admin/users", "/admin/users"),
+        ("POST", "/admin/keys", "/admin/keys"),
+        ("POST", "/admin/keys/revoke", "/admin/keys/revoke"),
+        ("POST", "/budgets/{id:long}/versions", "/budgets/999/versions"),
+        ("GET", "/budgets/{id:long}/diff", "/budgets/999/diff?from=1&to=2"),
+        ("GET", "/instruments/{id:long}/runs/new", "/instruments/999/runs/new"),
+        ("POST", "/instruments/{id:long}/runs/new", "/instruments/999/runs/new"),
+        ("GET", "/runs/{id:long}", "/runs/999"),
+        ("GET", "/runs/{id:long}/stability.png", "/runs/999/stability.png"),
+        ("POST", "/runs/{id:long}/budgets", "/runs/999/budgets"),
+        ("GET", "/budgets/{id:long}", "/budgets/999"),
+        ("POST", "/budgets/{id:long}/approve", "/budgets/999/approve"),
+        ("POST", "/budgets/{id:long}/certificates", "/budgets/999/certificates"),
+        ("GET", "/certificates/{id:long}.pdf", "/certificates/999.pdf"),
+        ("GET", "/audit", "/audit"),
     ];
 
     private readonly ServiceFactory _factory = new();
@@ -91,6 +99,10 @@ public sealed partial class PageRoleMatrixTests : IDisposable
         var form = new MultipartFormDataContent { { new StringContent(token), "__RequestVerificationToken" }, { new StringContent("1"), "version" } };
         return await client.PostAsync(row.Path, form);
     }
+
+    [Fact]
+    public void TheGuidesTableHasARowForEveryPageAndNoOther() =>
+        Assert.Equal(Pages.Select(p => $"{p.Method} {Documented(p.Route)}").Order(StringComparer.Ordinal), Guide.Value.Keys.Order(StringComparer.Ordinal));
 
     [Fact]
     public void TheTableListsEveryPage()
