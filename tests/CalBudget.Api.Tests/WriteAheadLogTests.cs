@@ -11,18 +11,14 @@ namespace CalBudget.Api.Tests;
 /// </summary>
 public sealed class WriteAheadLogTests : IDisposable
 {
-    private readonly string _folder = Directory.CreateTempSubdirectory("calbudget-wal-").FullName;
+    private readonly TempFolder _folder = new("calbudget-wal-");
 
-    public void Dispose()
-    {
-        SqliteConnection.ClearAllPools();
-        Directory.Delete(_folder, recursive: true);
-    }
+    public void Dispose() => _folder.Dispose();
 
     [Fact]
     public async Task TheLogIsEmptiedOnceNoReaderHoldsItAndNoWriteIsLost()
     {
-        var database = new SqliteDatabase(_folder, backgroundCheckpoints: true);
+        var database = new SqliteDatabase(_folder.Path, backgroundCheckpoints: true);
         await database.EnableWriteAheadLogAsync();
         await using (var setup = await database.OpenAsync())
         {

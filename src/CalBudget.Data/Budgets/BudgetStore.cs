@@ -108,12 +108,16 @@ public sealed class BudgetStore(IDbConnectionFactory database)
         return (await connection.QuerySingleOrDefaultAsync<BudgetRow>(new CommandDefinition($"SELECT {BudgetColumns} FROM budgets b WHERE b.id = @id", new { id }, cancellationToken: ct)))?.ToModel();
     }
 
+    internal const string PageSql = $"SELECT {BudgetColumns} FROM budgets b WHERE b.id > @afterId ORDER BY b.id LIMIT @limit";
+
+    // a separate statement, so that the (run_id, id) index serves it (an "@runId IS NULL OR" filter would keep SQLite off it)
+    internal const string PageByRunSql = $"SELECT {BudgetColumns} FROM budgets b WHERE b.run_id = @runId AND b.id > @afterId ORDER BY b.id LIMIT @limit";
+
     /// <summary>A page of budgets in id order.</summary>
     public async Task<IReadOnlyList<Budget>> ListAsync(long afterId, int limit, long? runId, CancellationToken ct = default)
     {
         await using var connection = await database.OpenAsync(ct);
-        var rows = await connection.QueryAsync<BudgetRow>(new CommandDefinition(
-            $"SELECT {BudgetColumns} FROM budgets b WHERE b.id > @afterId AND (@runId IS NULL OR b.run_id = @runId) ORDER BY b.id LIMIT @limit",
+        var rows = await connection.QueryAsync<BudgetRow>(new CommandDefinition(runId is null ? PageSql : PageByRunSql,
             new { afterId, limit, runId }, cancellationToken: ct));
         return rows.Select(r => r.ToModel()).ToArray();
     }

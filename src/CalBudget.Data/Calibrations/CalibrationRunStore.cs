@@ -47,7 +47,7 @@ public sealed class CalibrationRunStore(IDbConnectionFactory database)
         WHERE id = @id AND version = @expectedVersion AND retired_at IS NULL
         """;
 
-    private const string PageSql = $"""
+    internal const string PageSql = $"""
         {Select}
         WHERE r.id > @after AND (@instrumentId IS NULL OR r.instrument_id = @instrumentId)
           AND (@referenceId IS NULL OR r.reference_id = @referenceId) AND (@condition IS NULL OR r.condition = @condition)
@@ -56,12 +56,19 @@ public sealed class CalibrationRunStore(IDbConnectionFactory database)
         """;
 
     // With an instrument, the (instrument_id, id) index serves the page: "(@x IS NULL OR col = @x)" keeps SQLite's planner
-    // off an index, which scanned ever more rows as the runs grew (mixed load, README).
-    private const string PageByInstrumentSql = $"""
+    // off an index, which scanned ever more rows as the runs grew (mixed load, README). The same for a reference.
+    internal const string PageByInstrumentSql = $"""
         {Select}
         WHERE r.instrument_id = @instrumentId AND r.id > @after
           AND (@referenceId IS NULL OR r.reference_id = @referenceId) AND (@condition IS NULL OR r.condition = @condition)
           AND (@includeRetired = 1 OR r.retired_at IS NULL)
+        ORDER BY r.id LIMIT @take
+        """;
+
+    internal const string PageByReferenceSql = $"""
+        {Select}
+        WHERE r.reference_id = @referenceId AND r.id > @after
+          AND (@condition IS NULL OR r.condition = @condition) AND (@includeRetired = 1 OR r.retired_at IS NULL)
         ORDER BY r.id LIMIT @take
         """;
 
@@ -115,7 +122,7 @@ public sealed class CalibrationRunStore(IDbConnectionFactory database)
         bool includeRetired, CancellationToken ct = default)
     {
         await using var connection = await database.OpenAsync(ct);
-        var rows = await connection.QueryAsync<Row>(new CommandDefinition(instrumentId is null ? PageSql : PageByInstrumentSql,
+        var rows = await connection.QueryAsync<Row>(new CommandDefinition(instrumentId is not null ? PageByInstrumentSql : referenceId is not null ? PageByReferenceSql : PageSql,
             new { after = afterId, take = limit, instrumentId, referenceId, condition, includeRetired = includeRetired ? 1 : 0 }, cancellationToken: ct));
         return rows.Select(r => r.ToModel()).ToArray();
     }

@@ -121,14 +121,29 @@ public sealed class CertificateStore(IDbConnectionFactory database)
         return await connection.QuerySingleOrDefaultAsync<byte[]>(new CommandDefinition("SELECT pdf FROM certificates WHERE id = @id", new { id }, cancellationToken: ct));
     }
 
+    internal const string PageSql = $"""
+        SELECT {Columns} FROM certificates
+        WHERE id > @afterId AND (@customer IS NULL OR customer = @customer)
+        ORDER BY id LIMIT @limit
+        """;
+
+    // separate statements, so that the (instrument_id, id) and (customer, id) indexes serve them
+    internal const string PageByInstrumentSql = $"""
+        SELECT {Columns} FROM certificates
+        WHERE instrument_id = @instrumentId AND id > @afterId AND (@customer IS NULL OR customer = @customer)
+        ORDER BY id LIMIT @limit
+        """;
+
+    internal const string PageByCustomerSql = $"""
+        SELECT {Columns} FROM certificates
+        WHERE customer = @customer AND id > @afterId
+        ORDER BY id LIMIT @limit
+        """;
+
     /// <summary>A page in id order after <paramref name="afterId"/>, by instrument and customer when given.</summary>
     public async Task<IReadOnlyList<Certificate>> ListAsync(long afterId, int limit, long? instrumentId, string? customer, CancellationToken ct = default)
     {
-        string sql = $"""
-            SELECT {Columns} FROM certificates
-            WHERE id > @afterId AND (@instrumentId IS NULL OR instrument_id = @instrumentId) AND (@customer IS NULL OR customer = @customer)
-            ORDER BY id LIMIT @limit
-            """;
+        string sql = instrumentId is not null ? PageByInstrumentSql : customer is not null ? PageByCustomerSql : PageSql;
         await using var connection = await database.OpenAsync(ct);
         var rows = await connection.QueryAsync<Row>(new CommandDefinition(sql, new { afterId, limit, instrumentId, customer }, cancellationToken: ct));
         return rows.Select(r => r.ToModel()).ToArray();
