@@ -23,6 +23,7 @@ public sealed class QueryPlanTests : IDisposable
         { nameof(CalibrationRunStore.PageByInstrumentSql), CalibrationRunStore.PageByInstrumentSql, "calibration_runs_instrument" },
         { nameof(CalibrationRunStore.PageByReferenceSql), CalibrationRunStore.PageByReferenceSql, "calibration_runs_reference" },
         { nameof(BudgetStore.PageByRunSql), BudgetStore.PageByRunSql, "budgets_run" },
+        { nameof(BudgetStore.PageByInstrumentSql), BudgetStore.PageByInstrumentSql, "calibration_runs_instrument" },
         { nameof(CertificateStore.PageByInstrumentSql), CertificateStore.PageByInstrumentSql, "certificates_instrument" },
         { nameof(CertificateStore.PageByCustomerSql), CertificateStore.PageByCustomerSql, "certificates_customer" },
         { nameof(AuditLog.PageByEntitySql), AuditLog.PageByEntitySql, "audit_entries_entity" },

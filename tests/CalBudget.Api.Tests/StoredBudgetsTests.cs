@@ -265,6 +265,32 @@ public sealed class StoredBudgetsTests : IDisposable
     }
 
     [Fact]
+    public async Task BudgetsAreListedByInstrumentAndByRunEachWithItsNewestVersion()
+    {
+        var (tech, first, _) = await RunAsync("OCXO", "CB-0046");
+        long instrument = (await Json.ReadAsync(await tech.GetAsync($"/api/v1/calibrations/{first}"), HttpStatusCode.OK))["instrumentId"]!.GetValue<long>();
+        long reference = (await Json.ReadAsync(await tech.GetAsync($"/api/v1/calibrations/{first}"), HttpStatusCode.OK))["referenceId"]!.GetValue<long>();
+        long second = (await Json.PostAsync(tech, "/api/v1/calibrations", LabRecords.RunBody(instrument, reference), HttpStatusCode.Created))["id"]!.GetValue<long>();
+        await UploadAsync(tech, second, WhiteReadings(200, 46));
+        var (_, other, _) = await RunAsync("OCXO", "CB-0047");
+        var revised = await Json.PostAsync(tech, "/api/v1/budgets", Build(first, "ocxo-counter"), HttpStatusCode.Created);
+        await Json.PostAsync(tech, "/api/v1/budgets", Build(second, "ocxo-counter"), HttpStatusCode.Created);
+        await Json.PostAsync(tech, "/api/v1/budgets", Build(other, "ocxo-counter"), HttpStatusCode.Created);
+        var revise = new HttpRequestMessage(HttpMethod.Post, $"/api/v1/budgets/{revised["id"]}/versions") { Content = Json.Body("""{ "reason": "used in any orientation", "posturePolicy": { "kind": "any" } }""") };
+        revise.Headers.IfMatch.Add(new EntityTagHeaderValue("\"1\""));
+        await Json.ReadAsync(await tech.SendAsync(revise), HttpStatusCode.Created);
+
+        var ofInstrument = (await Json.ReadAsync(await tech.GetAsync($"/api/v1/budgets?instrumentId={instrument}"), HttpStatusCode.OK))["items"]!.AsArray();
+        Assert.Equal([first, second], ofInstrument.Select(b => b!["runId"]!.GetValue<long>()));
+        Assert.Equal([2, 1], ofInstrument.Select(b => b!["latest"]!["number"]!.GetValue<int>()));
+        Assert.Equal("used in any orientation", ofInstrument[0]!["latest"]!["reason"]!.GetValue<string>());
+        var ofRun = (await Json.ReadAsync(await tech.GetAsync($"/api/v1/budgets?instrumentId={instrument}&runId={second}"), HttpStatusCode.OK))["items"]!.AsArray();
+        Assert.Equal([second], ofRun.Select(b => b!["runId"]!.GetValue<long>()));
+        var ofOther = (await Json.ReadAsync(await tech.GetAsync($"/api/v1/budgets?runId={other}"), HttpStatusCode.OK))["items"]!.AsArray();
+        Assert.Single(ofOther);
+    }
+
+    [Fact]
     public async Task AnOverrideReplacesALineAndNeedsAReason()
     {
         var (tech, run, _) = await RunAsync("OCXO", "CB-0045");

@@ -32,7 +32,7 @@ public static class StoredBudgetsApi
             .MapGet("/", Templates).WithName("ListTemplates").WithSummary("The lab's budget templates, with their versions and lines");
 
         var read = routes.MapGroup("/api/v1/budgets").WithTags("Budgets").RequireAuthorization(Policies.AnyRole);
-        read.MapGet("/", List).WithName("ListBudgets").WithSummary("Stored budgets in id order, a page at a time (filter: runId)")
+        read.MapGet("/", List).WithName("ListBudgets").WithSummary("Stored budgets in id order, a page at a time (filters: runId, instrumentId)")
             .ProducesValidationProblem(StatusCodes.Status400BadRequest);
         read.MapGet("/{id:long}", Get).WithName("GetBudget").WithSummary("A budget with its newest version in full (ETag: that version's number)")
             .ProducesProblem(StatusCodes.Status404NotFound);
@@ -75,7 +75,8 @@ public static class StoredBudgetsApi
     }
 
     /// <summary>GET /api/v1/budgets.</summary>
-    public static async Task<Results<Ok<Page<BudgetDto>>, ProblemHttpResult>> List(BudgetStore store, IOptions<JsonOptions> json, int? limit, string? cursor, long? runId, CancellationToken ct)
+    public static async Task<Results<Ok<Page<BudgetDto>>, ProblemHttpResult>> List(BudgetStore store, IOptions<JsonOptions> json, int? limit, string? cursor, long? runId,
+        long? instrumentId, CancellationToken ct)
     {
         ArgumentNullException.ThrowIfNull(store);
         var errors = new FieldErrors();
@@ -85,12 +86,10 @@ public static class StoredBudgetsApi
             return Problems.Invalid(errors.ToDictionary());
         }
 
-        var rows = await store.ListAsync(after, take + 1, runId, ct);
-        var items = new List<BudgetDto>();
-        foreach (var b in rows.Take(take))
-        {
-            items.Add(ToDto(b, (await store.VersionAsync(b.Id, b.LatestVersion, ct))!, json));
-        }
+        var rows = await store.ListAsync(after, take + 1, runId, instrumentId, ct);
+        var page = rows.Take(take).ToArray();
+        var latest = await store.LatestVersionsAsync(page, ct);
+        var items = page.Select(b => ToDto(b, latest[b.Id], json)).ToList();
 
         return TypedResults.Ok(new Page<BudgetDto>(items, rows.Count > take ? Conventions.Cursor(items[^1].Id) : null));
     }

@@ -338,11 +338,7 @@ public static class StaffPages
         }
 
         var runList = ValueOf<Page<CalibrationRunDto>>((await CalibrationsApi.List(runs, 200, null, id, null, null, false, ct)).Result)?.Items ?? [];
-        var budgetList = new List<BudgetDto>();
-        foreach (var r in runList)
-        {
-            budgetList.AddRange(ValueOf<Page<BudgetDto>>((await StoredBudgetsApi.List(budgets, json, 200, null, r.Id, ct)).Result)?.Items ?? []);
-        }
+        var budgetList = ValueOf<Page<BudgetDto>>((await StoredBudgetsApi.List(budgets, json, 200, null, null, id, ct)).Result)?.Items ?? [];
 
         var certs = ValueOf<Page<CertificateDto>>((await CertificatesApi.List(certificates, json, 200, null, id, null, ct)).Result)?.Items ?? [];
         return Page<InstrumentDetail>(new { Instrument = instrument, Runs = runList.OrderByDescending(r => r.StartedAt).ToArray(), Budgets = budgetList, Certificates = certs, CanWrite = Can(http.User, Policies.Writer), http.User });
@@ -441,7 +437,7 @@ public static class StaffPages
             }
         }
 
-        var list = ValueOf<Page<BudgetDto>>((await StoredBudgetsApi.List(budgets, json, 200, null, id, ct)).Result)?.Items ?? [];
+        var list = ValueOf<Page<BudgetDto>>((await StoredBudgetsApi.List(budgets, json, 200, null, id, null, ct)).Result)?.Items ?? [];
         return Page<RunDetail>(new
         {
             Run = run, Points = points, Budgets = list, Templates = StoredBudgetsApi.Templates(catalog).Value ?? [], CanWrite = Can(http.User, Policies.Writer),

@@ -113,12 +113,19 @@ public sealed class BudgetStore(IDbConnectionFactory database)
     // a separate statement, so that the (run_id, id) index serves it (an "@runId IS NULL OR" filter would keep SQLite off it)
     internal const string PageByRunSql = $"SELECT {BudgetColumns} FROM budgets b WHERE b.run_id = @runId AND b.id > @afterId ORDER BY b.id LIMIT @limit";
 
-    /// <summary>A page of budgets in id order.</summary>
-    public async Task<IReadOnlyList<Budget>> ListAsync(long afterId, int limit, long? runId, CancellationToken ct = default)
+    // the budgets of an instrument's runs: its runs by their index, then each run's budgets by theirs
+    internal const string PageByInstrumentSql = $"""
+        SELECT {BudgetColumns} FROM budgets b JOIN calibration_runs r ON r.id = b.run_id
+        WHERE r.instrument_id = @instrumentId AND b.id > @afterId AND (@runId IS NULL OR b.run_id = @runId)
+        ORDER BY b.id LIMIT @limit
+        """;
+
+    /// <summary>A page of budgets in id order, of one run and/or of one instrument's runs when given.</summary>
+    public async Task<IReadOnlyList<Budget>> ListAsync(long afterId, int limit, long? runId, long? instrumentId = null, CancellationToken ct = default)
     {
         await using var connection = await database.OpenAsync(ct);
-        var rows = await connection.QueryAsync<BudgetRow>(new CommandDefinition(runId is null ? PageSql : PageByRunSql,
-            new { afterId, limit, runId }, cancellationToken: ct));
+        string sql = instrumentId is not null ? PageByInstrumentSql : runId is not null ? PageByRunSql : PageSql;
+        var rows = await connection.QueryAsync<BudgetRow>(new CommandDefinition(sql, new { afterId, limit, runId, instrumentId }, cancellationToken: ct));
         return rows.Select(r => r.ToModel()).ToArray();
     }
 
@@ -136,6 +143,25 @@ public sealed class BudgetStore(IDbConnectionFactory database)
         await using var connection = await database.OpenAsync(ct);
         return (await connection.QuerySingleOrDefaultAsync<VersionRow>(new CommandDefinition(
             $"SELECT {VersionColumns} FROM budget_versions WHERE budget_id = @budgetId AND number = @number", new { budgetId, number }, cancellationToken: ct)))?.ToModel();
+    }
+
+    /// <summary>The newest version of each of <paramref name="budgets"/>, by budget id, in one query.</summary>
+    public async Task<IReadOnlyDictionary<long, BudgetVersion>> LatestVersionsAsync(IReadOnlyCollection<Budget> budgets, CancellationToken ct = default)
+    {
+        ArgumentNullException.ThrowIfNull(budgets);
+        if (budgets.Count == 0)
+        {
+            return new Dictionary<long, BudgetVersion>();
+        }
+
+        // a page is at most 200 budgets: well within SQLite's limit on bound values
+        const string sql = $"""
+            SELECT {VersionColumns} FROM budget_versions v
+            WHERE v.budget_id IN @ids AND v.number = (SELECT max(w.number) FROM budget_versions w WHERE w.budget_id = v.budget_id)
+            """;
+        await using var connection = await database.OpenAsync(ct);
+        var rows = await connection.QueryAsync<VersionRow>(new CommandDefinition(sql, new { ids = budgets.Select(b => b.Id).ToArray() }, cancellationToken: ct));
+        return rows.Select(r => r.ToModel()).ToDictionary(v => v.BudgetId);
     }
 
     /// <summary>Every version, oldest first.</summary>
