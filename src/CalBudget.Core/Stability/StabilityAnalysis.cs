@@ -32,7 +32,7 @@ public sealed record StabilityResult(IReadOnlyDictionary<StabilityStatistic, IRe
 /// <summary>
 /// Frequency-stability analysis (NIST SP 1065): the statistics at the requested averaging factors (or octaves 1, 2, 4 ...
 /// up to each statistic's largest), each with its term count, equivalent degrees of freedom for the noise identified at
-/// that factor, and 68.3 % confidence interval. The (statistic, factor) pairs run in parallel.
+/// that factor, and 68.3 % confidence interval. The averaging factors run in parallel.
 /// </summary>
 public static class StabilityAnalysis
 {
@@ -99,9 +99,9 @@ public static class StabilityAnalysis
             .ToArray();
         var alphaAt = FillUnidentified(noise);
 
-        // One piece of work per averaging factor, shared by both cores, the largest first: without gaps one pass gives the
-        // sums of every overlapping statistic at that factor; each other variance is computed once (TDEV is MDEV rescaled);
-        // then each point's edf and interval.
+        // One piece of work per averaging factor, shared by both cores, the smallest factor (the most terms) first: without
+        // gaps one pass gives the sums of every overlapping statistic at that factor; each other variance is computed once
+        // (TDEV is MDEV rescaled); then each point's edf and interval.
         bool shared = series.GapCount == 0;
         var byFactor = jobs.GroupBy(j => j.M).Select(g => (M: g.Key, Jobs: g.ToArray())).OrderBy(g => g.M).ToArray();
         var points = new ConcurrentBag<(StabilityStatistic Statistic, StabilityPoint Point)>();
