@@ -182,5 +182,11 @@ public static class OrientationApi
             errors.Add(field, ex.Message);
             return null;
         }
+        catch (InvalidOperationException ex) when (ex.InnerException is System.Text.DecoderFallbackException)
+        {
+            // a JsonElement keeps a string's bytes as sent; reading them is where bytes that are not UTF-8 show
+            errors.Add(field, "Not valid UTF-8 text.");
+            return null;
+        }
     }
 }

@@ -71,6 +71,10 @@ public sealed class RequestExceptionHandler(IProblemDetailsService problems, ILo
             case BadHttpRequestException bad:
                 problem = new ProblemDetails { Status = bad.StatusCode, Title = TitleFor(bad.StatusCode), Detail = bad.Message };
                 break;
+            case InvalidOperationException { InnerException: System.Text.DecoderFallbackException }:
+                // a string kept as a JsonElement is decoded only when read: bytes that are not UTF-8 show there
+                problem = new ProblemDetails { Status = StatusCodes.Status400BadRequest, Title = TitleFor(StatusCodes.Status400BadRequest), Detail = "The request body holds text that is not valid UTF-8." };
+                break;
             case OperationCanceledException when httpContext.RequestAborted.IsCancellationRequested:
                 return true; // the client went away; nobody is listening for an answer
             default:
