@@ -39,6 +39,12 @@ public static class HostingExtensions
         builder.WebHost.UseSockets(o => o.WaitForDataBeforeAllocatingBuffer = false);
         builder.Services.Configure<HostOptions>(h => h.ShutdownTimeout = settings.ShutdownTimeout);
 
+        // Monte Carlo and stability work runs on every core from a request's thread; with the thread pool's minimum at one
+        // thread per core that left no thread for timers (a request's time limit fired seconds late) nor for other requests
+        // until the pool grew. Four per core keeps threads at hand; only as many run as there is work.
+        ThreadPool.GetMinThreads(out int workers, out int completion);
+        ThreadPool.SetMinThreads(Math.Max(workers, 4 * Environment.ProcessorCount), completion);
+
         builder.Services.Configure<JsonOptions>(o =>
         {
             // Numbers must be JSON numbers and unknown properties are refused: a misspelt field is an error, not a silent default.

@@ -85,6 +85,7 @@ public static class MonteCarloEngine
         {
             var values = rented.AsMemory(0, (int)trials);
             var moments = model.Fill(values, options.Seed, stream: 0, parallel);
+            options.Cancellation.ThrowIfCancellationRequested(); // before the sort, which is not stopped part-way
             var (mean, sd) = Moments.Deviation(moments);
             var (symmetric, shortest) = CoverageIntervals.Compute(values, p, moments.Min, moments.Max, parallel);
             return new MonteCarloResult(trials, mean, sd, p, symmetric, shortest, options.Seed, Adaptive: false, Stabilized: true, null)

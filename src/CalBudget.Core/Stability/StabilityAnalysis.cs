@@ -95,6 +95,7 @@ public static class StabilityAnalysis
         bool hadamard = statistics.Contains(StabilityStatistic.Hdev) || statistics.Contains(StabilityStatistic.Ohdev);
         var identification = new NoiseIdentification(series, readings);
         var noise = jobs.Select(j => j.M).Distinct().Order().AsParallel().AsOrdered().WithCancellation(cancellationToken)
+            .WithDegreeOfParallelism(Environment.ProcessorCount)
             .Select(m => new NoisePoint(m, m * tau0, identification.Identify(m, hadamard ? 3 : 2)))
             .ToArray();
         var alphaAt = FillUnidentified(noise);
@@ -105,7 +106,8 @@ public static class StabilityAnalysis
         bool shared = series.GapCount == 0;
         var byFactor = jobs.GroupBy(j => j.M).Select(g => (M: g.Key, Jobs: g.ToArray())).OrderBy(g => g.M).ToArray();
         var points = new ConcurrentBag<(StabilityStatistic Statistic, StabilityPoint Point)>();
-        var parallel = new ParallelOptions { CancellationToken = cancellationToken };
+        // one worker per core, however many threads the pool holds ready
+        var parallel = new ParallelOptions { CancellationToken = cancellationToken, MaxDegreeOfParallelism = Environment.ProcessorCount };
         Parallel.ForEach(Partitioner.Create(byFactor, EnumerablePartitionerOptions.NoBuffering), parallel, group =>
         {
             int m = group.M;
