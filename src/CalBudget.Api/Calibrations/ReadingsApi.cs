@@ -63,7 +63,7 @@ public static class ReadingsApi
             .ProducesValidationProblem(StatusCodes.Status400BadRequest).ProducesProblem(StatusCodes.Status404NotFound)
             .ProducesProblem(StatusCodes.Status409Conflict).ProducesProblem(StatusCodes.Status413PayloadTooLarge)
             .ProducesProblem(StatusCodes.Status415UnsupportedMediaType).ProducesValidationProblem(StatusCodes.Status422UnprocessableEntity)
-            .WithRequestTimeout(RequestTimeLimits.LongPolicy);
+            .WithMetadata(new LongRequestMetadata());
         return routes;
     }
 

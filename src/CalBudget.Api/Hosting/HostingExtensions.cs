@@ -39,12 +39,6 @@ public static class HostingExtensions
         builder.WebHost.UseSockets(o => o.WaitForDataBeforeAllocatingBuffer = false);
         builder.Services.Configure<HostOptions>(h => h.ShutdownTimeout = settings.ShutdownTimeout);
 
-        // Monte Carlo and stability work runs on every core from a request's thread; with the thread pool's minimum at one
-        // thread per core that left no thread for timers (a request's time limit fired seconds late) nor for other requests
-        // until the pool grew. Four per core keeps threads at hand; only as many run as there is work.
-        ThreadPool.GetMinThreads(out int workers, out int completion);
-        ThreadPool.SetMinThreads(Math.Max(workers, 4 * Environment.ProcessorCount), completion);
-
         builder.Services.Configure<JsonOptions>(o =>
         {
             // Numbers must be JSON numbers and unknown properties are refused: a misspelt field is an error, not a silent default.
@@ -94,7 +88,6 @@ public static class HostingExtensions
         builder.Services.AddSingleton<UserAccounts>();
         builder.Services.AddRazorComponents();
         builder.Services.AddCalBudgetRateLimits();
-        builder.Services.AddCalBudgetRequestTimeouts(settings);
         builder.Services.AddAntiforgery(o =>
         {
             o.Cookie.Name = "calbudget.antiforgery";
@@ -159,7 +152,7 @@ public static class HostingExtensions
         });
         app.UseMiddleware<RequestBodyLimitMiddleware>();
         app.UseRateLimiter();
-        app.UseRequestTimeouts();
+        app.UseMiddleware<RequestTimeLimitMiddleware>();
         app.UseAuthentication();
         app.UseAuthorization();
         app.UseAntiforgery();
