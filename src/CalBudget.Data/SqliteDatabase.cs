@@ -17,7 +17,8 @@ public sealed class SqliteDatabase : IDbConnectionFactory
     /// <summary>How long a connection waits for another writer's lock before giving up.</summary>
     public static readonly TimeSpan BusyTimeout = TimeSpan.FromSeconds(10);
 
-    private const string SessionPragmas = "PRAGMA foreign_keys = ON; PRAGMA synchronous = FULL; PRAGMA busy_timeout = 10000;";
+    private static readonly string BusyTimeoutPragma = string.Create(System.Globalization.CultureInfo.InvariantCulture, $"PRAGMA busy_timeout = {(long)BusyTimeout.TotalMilliseconds};");
+    private static readonly string SessionPragmas = "PRAGMA foreign_keys = ON; PRAGMA synchronous = FULL; " + BusyTimeoutPragma;
     private const string NoAutoCheckpoint = " PRAGMA wal_autocheckpoint = 0;";
     private readonly string _pragmas;
 
@@ -107,7 +108,7 @@ public sealed class SqliteDatabase : IDbConnectionFactory
             if (wait is not null)
             {
                 // the connection goes back to the pool with the session's usual timeout
-                await connection.ExecuteAsync("PRAGMA busy_timeout = 10000;").ConfigureAwait(false);
+                await connection.ExecuteAsync(BusyTimeoutPragma).ConfigureAwait(false);
             }
         }
     }

@@ -82,4 +82,6 @@ if (args is ["audit-verify", var entries])
     return;
 }
 
-BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args);
+// results go beside the build output, not into the repository's top folder
+BenchmarkSwitcher.FromAssembly(typeof(Program).Assembly).Run(args,
+    BenchmarkDotNet.Configs.ConfigExtensions.WithArtifactsPath(BenchmarkDotNet.Configs.DefaultConfig.Instance, Path.Combine(AppContext.BaseDirectory, "BenchmarkDotNet.Artifacts")));

@@ -62,8 +62,7 @@ public static class ReadingsApi
             .Produces<ReadingUploadDto>(StatusCodes.Status201Created)
             .ProducesValidationProblem(StatusCodes.Status400BadRequest).ProducesProblem(StatusCodes.Status404NotFound)
             .ProducesProblem(StatusCodes.Status409Conflict).ProducesProblem(StatusCodes.Status413PayloadTooLarge)
-            .ProducesProblem(StatusCodes.Status415UnsupportedMediaType).ProducesValidationProblem(StatusCodes.Status422UnprocessableEntity)
-            .WithMetadata(new LongRequestMetadata());
+            .ProducesProblem(StatusCodes.Status415UnsupportedMediaType).ProducesValidationProblem(StatusCodes.Status422UnprocessableEntity);
         return routes;
     }
 

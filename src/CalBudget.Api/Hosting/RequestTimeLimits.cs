@@ -3,12 +3,10 @@ using Microsoft.Extensions.Options;
 
 namespace CalBudget.Api.Hosting;
 
-/// <summary>Marks an endpoint that gets <see cref="CalBudgetOptions.LongRequestTimeout"/> (uploads of readings).</summary>
-public sealed class LongRequestMetadata;
-
 /// <summary>
 /// Time limits per request: <see cref="CalBudgetOptions.RequestTimeout"/> for every endpoint,
-/// <see cref="CalBudgetOptions.LongRequestTimeout"/> for those marked <see cref="LongRequestMetadata"/>. At the limit the
+/// <see cref="CalBudgetOptions.LongRequestTimeout"/> for the uploads of readings (marked <see cref="Calibrations.LargeUploadMetadata"/>,
+/// which also raises their body limit). At the limit the
 /// request's cancellation token fires (the computations stop between chunks of work: Monte Carlo trials, stability
 /// factors) and the client gets 503 problem details with Retry-After; nothing half-done is stored, since every write is
 /// one transaction. The limits are kept by a thread of their own (<see cref="DeadlineClock"/>), not by timers on the thread
@@ -24,7 +22,7 @@ public sealed class RequestTimeLimitMiddleware(RequestDelegate next, IOptions<Ca
     public async Task InvokeAsync(HttpContext context)
     {
         ArgumentNullException.ThrowIfNull(context);
-        var limit = context.GetEndpoint()?.Metadata.GetMetadata<LongRequestMetadata>() is null ? _limit : _longLimit;
+        var limit = context.GetEndpoint()?.Metadata.GetMetadata<Calibrations.LargeUploadMetadata>() is null ? _limit : _longLimit;
         var original = context.RequestAborted;
         using var limited = CancellationTokenSource.CreateLinkedTokenSource(original);
         using var deadline = DeadlineClock.Shared.CancelAt(limited, DateTime.UtcNow + limit);

@@ -47,29 +47,25 @@ public sealed class CalibrationRunStore(IDbConnectionFactory database)
         WHERE id = @id AND version = @expectedVersion AND retired_at IS NULL
         """;
 
+    // what every page statement adds after its own filter
+    private const string PageRest = "AND (@condition IS NULL OR r.condition = @condition) AND (@includeRetired = 1 OR r.retired_at IS NULL) ORDER BY r.id LIMIT @take";
+
     internal const string PageSql = $"""
         {Select}
         WHERE r.id > @after AND (@instrumentId IS NULL OR r.instrument_id = @instrumentId)
-          AND (@referenceId IS NULL OR r.reference_id = @referenceId) AND (@condition IS NULL OR r.condition = @condition)
-          AND (@includeRetired = 1 OR r.retired_at IS NULL)
-        ORDER BY r.id LIMIT @take
+          AND (@referenceId IS NULL OR r.reference_id = @referenceId) {PageRest}
         """;
 
     // With an instrument, the (instrument_id, id) index serves the page: "(@x IS NULL OR col = @x)" keeps SQLite's planner
     // off an index, which scanned ever more rows as the runs grew (mixed load, README). The same for a reference.
     internal const string PageByInstrumentSql = $"""
         {Select}
-        WHERE r.instrument_id = @instrumentId AND r.id > @after
-          AND (@referenceId IS NULL OR r.reference_id = @referenceId) AND (@condition IS NULL OR r.condition = @condition)
-          AND (@includeRetired = 1 OR r.retired_at IS NULL)
-        ORDER BY r.id LIMIT @take
+        WHERE r.instrument_id = @instrumentId AND r.id > @after AND (@referenceId IS NULL OR r.reference_id = @referenceId) {PageRest}
         """;
 
     internal const string PageByReferenceSql = $"""
         {Select}
-        WHERE r.reference_id = @referenceId AND r.id > @after
-          AND (@condition IS NULL OR r.condition = @condition) AND (@includeRetired = 1 OR r.retired_at IS NULL)
-        ORDER BY r.id LIMIT @take
+        WHERE r.reference_id = @referenceId AND r.id > @after {PageRest}
         """;
 
     private const string RecentSql = $"""
