@@ -34,16 +34,18 @@ internal sealed class NoiseIdentification
         double[] rented = ArrayPool<double>.Shared.Rent(_values.Length / m + 1);
         try
         {
-            var series = Reduce(m, rented);
+            var series = Reduce(m, rented, out var moments);
             if (series.Length < MinimumPoints)
             {
                 return null;
             }
 
-            Detrend(series, phase ? 2 : 1);
+            // the first lag-1 autocorrelation is taken of the residuals as they are computed; they are stored only when the
+            // series has to be differenced
+            var trend = Trend(series.Length, phase ? 2 : 1, moments);
+            double? r1 = LagOneOfResiduals(series, trend);
             for (int d = 0; ; d++)
             {
-                double? r1 = LagOne(series);
                 if (r1 is null)
                 {
                     return null;
@@ -56,11 +58,18 @@ internal sealed class NoiseIdentification
                     return Math.Clamp(alpha, -2 * maxDifferences, 2);
                 }
 
+                if (d == 0)
+                {
+                    Subtract(series, trend);
+                }
+
                 series = Difference(series);
                 if (series.Length < MinimumPoints / 2)
                 {
                     return null;
                 }
+
+                r1 = LagOne(series);
             }
         }
         finally
@@ -70,8 +79,9 @@ internal sealed class NoiseIdentification
     }
 
     // Averages of m consecutive frequency readings (differences of the phase over m samples), or every m-th phase reading;
-    // a block or a point with a gap is dropped.
-    private Span<double> Reduce(int m, double[] z)
+    // a block or a point with a gap is dropped. Also the moments sum z, sum t z, sum t^2 z about the centred index t: taken
+    // along when the count is known in advance (frequency without gaps), else in a second pass.
+    private Span<double> Reduce(int m, double[] z, out (double B0, double B1, double B2) moments)
     {
         var values = _values.Span;
         int count = 0;
@@ -84,6 +94,26 @@ internal sealed class NoiseIdentification
                     z[count++] = values[i];
                 }
             }
+        }
+        else if (_series.GapCount == 0)
+        {
+            var x = _series.X;
+            double scale = 1 / (m * _series.Tau0);
+            count = values.Length / m;
+            double c = (count - 1) / 2.0;
+            double b0 = 0, b1 = 0, b2 = 0;
+            for (int k = 0; k < count; k++)
+            {
+                double v = (x[(k + 1) * m] - x[k * m]) * scale;
+                double t = k - c;
+                z[k] = v;
+                b0 += v;
+                b1 += t * v;
+                b2 += t * t * v;
+            }
+
+            moments = (b0, b1, b2);
+            return z.AsSpan(0, count);
         }
         else
         {
@@ -98,18 +128,18 @@ internal sealed class NoiseIdentification
             }
         }
 
-        return z.AsSpan(0, count);
+        var series = z.AsSpan(0, count);
+        moments = Moments(series, (count - 1) / 2.0);
+        return series;
     }
 
-    // Least-squares polynomial of degree 1 or 2 in the centred index t = i - (n - 1)/2, subtracted. With a centred index the
-    // odd power sums vanish, so the normal equations split: c1 = sum(t z) / sum(t^2), and c0, c2 from a 2 x 2 system; the
-    // even power sums have closed forms.
-    private static void Detrend(Span<double> z, int degree)
+    // Least-squares polynomial of degree 1 or 2 in the centred index t = i - (n - 1)/2, as c0 + c1 t + c2 t^2. With a centred
+    // index the odd power sums vanish, so the normal equations split: c1 = sum(t z) / sum(t^2), and c0, c2 from a 2 x 2
+    // system; the even power sums have closed forms.
+    internal static (double C0, double C1, double C2) Trend(int n, int degree, (double B0, double B1, double B2) moments)
     {
-        int n = z.Length;
-        double c = (n - 1) / 2.0;
+        var (b0, b1, b2) = moments;
         double s0 = n, s2 = n * ((double)n * n - 1) / 12, s4 = n * ((double)n * n - 1) * (3.0 * n * n - 7) / 240;
-        var (b0, b1, b2) = Moments(z, c);
         double c1 = s2 > 0 ? b1 / s2 : 0;
         double c0 = b0 / s0, c2 = 0;
         if (degree == 2)
@@ -122,6 +152,15 @@ internal sealed class NoiseIdentification
             }
         }
 
+        return (c0, c1, c2);
+    }
+
+    // The trend subtracted, in place.
+    internal static void Subtract(Span<double> z, (double C0, double C1, double C2) trend)
+    {
+        int n = z.Length;
+        double c = (n - 1) / 2.0;
+        var (c0, c1, c2) = trend;
         int i = 0;
         if (Vector256.IsHardwareAccelerated)
         {
@@ -142,8 +181,60 @@ internal sealed class NoiseIdentification
         }
     }
 
+    // The lag-1 autocorrelation of the residuals e = z - trend without storing them: one pass gives sum e, sum e^2 and
+    // sum e_i e_(i+1), from which the autocorrelation about the residuals' mean follows exactly as LagOne takes it.
+    internal static double? LagOneOfResiduals(ReadOnlySpan<double> z, (double C0, double C1, double C2) trend)
+    {
+        int n = z.Length;
+        double c = (n - 1) / 2.0;
+        var (c0, c1, c2) = trend;
+        double Residual(ReadOnlySpan<double> z, int i)
+        {
+            double t = i - c;
+            return z[i] - (c0 + (c1 + c2 * t) * t);
+        }
+
+        double sum = 0, squares = 0, products = 0;
+        int k = 0;
+        if (Vector256.IsHardwareAccelerated)
+        {
+            var t = Vector256.Create(-c, 1 - c, 2 - c, 3 - c);
+            var one = Vector256.Create(1.0);
+            var four = Vector256.Create(4.0);
+            var (v0, v1, v2) = (Vector256.Create(c0), Vector256.Create(c1), Vector256.Create(c2));
+            Vector256<double> s = default, q = default, p = default;
+            for (; k <= n - 5; k += 4, t += four)
+            {
+                var e = Vector256.Create(z.Slice(k, 4)) - (v0 + (v1 + v2 * t) * t);
+                var tn = t + one;
+                var next = Vector256.Create(z.Slice(k + 1, 4)) - (v0 + (v1 + v2 * tn) * tn);
+                s += e;
+                q += e * e;
+                p += e * next;
+            }
+
+            (sum, squares, products) = (Vector256.Sum(s), Vector256.Sum(q), Vector256.Sum(p));
+        }
+
+        for (; k < n; k++)
+        {
+            double e = Residual(z, k);
+            sum += e;
+            squares += e * e;
+            if (k + 1 < n)
+            {
+                products += e * Residual(z, k + 1);
+            }
+        }
+
+        double mean = sum / n;
+        double num = products - mean * (sum - Residual(z, 0)) - mean * (sum - Residual(z, n - 1)) + (n - 1) * mean * mean;
+        double den = squares - n * mean * mean;
+        return den > 0 ? num / den : null;
+    }
+
     // sum z, sum t z, sum t^2 z with t = i - c.
-    private static (double B0, double B1, double B2) Moments(ReadOnlySpan<double> z, double c)
+    internal static (double B0, double B1, double B2) Moments(ReadOnlySpan<double> z, double c)
     {
         double b0 = 0, b1 = 0, b2 = 0;
         int i = 0;
@@ -175,7 +266,7 @@ internal sealed class NoiseIdentification
         return (b0, b1, b2);
     }
 
-    private static double? LagOne(ReadOnlySpan<double> z)
+    internal static double? LagOne(ReadOnlySpan<double> z)
     {
         double mean = Sum(z) / z.Length;
         double num = 0, den = 0;

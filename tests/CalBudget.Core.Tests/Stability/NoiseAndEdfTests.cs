@@ -19,6 +19,50 @@ public class NoiseAndEdfTests
         });
     }
 
+    // The service's identification (averages from the phase already formed, the trend's moments taken while averaging,
+    // the first autocorrelation of the residuals without storing them) against SP 1065 5.6 written plainly
+    // (TextbookDeviations.NoiseAlpha), for white PM, white FM and random-walk FM, with and without gaps, at many factors.
+    [Theory]
+    [InlineData(2, false)]
+    [InlineData(0, false)]
+    [InlineData(-2, false)]
+    [InlineData(2, true)]
+    [InlineData(0, true)]
+    [InlineData(-2, true)]
+    public void IdentificationAgreesWithTheTextbookMethod(int alpha, bool gaps)
+    {
+        var y = ReferenceData.Noise(alpha, 6000, seed: 40 + alpha).Select(v => 3e-9 + 1e-11 * v).ToArray();
+        if (gaps)
+        {
+            foreach (int i in new[] { 5, 6, 700, 2999, 5100 })
+            {
+                y[i] = double.NaN;
+            }
+        }
+
+        int[] factors = [1, 2, 3, 5, 8, 16, 30, 64, 150];
+        var r = StabilityAnalysis.Analyse(y, StabilityDataType.Frequency, 1, [StabilityStatistic.Oadev], factors);
+        Assert.All(r.Noise, n => Assert.Equal(TextbookDeviations.NoiseAlpha(y, n.AveragingFactor, 2), n.Alpha));
+    }
+
+    // The lag-1 autocorrelation of the residuals, taken in one pass without storing them, equals the one of the residuals
+    // stored (the trend subtracted in place), for a series with a large quadratic trend.
+    [Theory]
+    [InlineData(1, 31)]
+    [InlineData(2, 1000)]
+    [InlineData(2, 100_003)]
+    public void ResidualAutocorrelationInOnePassEqualsTheStoredOne(int degree, int n)
+    {
+        var noise = ReferenceData.Noise(0, n, seed: n);
+        var z = Enumerable.Range(0, n).Select(i => 5.0 + 1e-3 * i - 2e-7 * i * (double)i + noise[i]).ToArray();
+        var trend = NoiseIdentification.Trend(n, degree, NoiseIdentification.Moments(z, (n - 1) / 2.0));
+        double? onePass = NoiseIdentification.LagOneOfResiduals(z, trend);
+        NoiseIdentification.Subtract(z, trend);
+        double? stored = NoiseIdentification.LagOne(z);
+        Assert.NotNull(onePass);
+        Assert.Equal(stored!.Value, onePass.Value, 1e-10);
+    }
+
     [Fact]
     public void TooFewPointsAreNotIdentified()
     {

@@ -115,4 +115,61 @@ internal static class TextbookDeviations
         var valid = terms.Where(t => !double.IsNaN(t)).ToArray();
         return (Math.Sqrt(valid.Sum(t => t * t) / (divisor * valid.Length)), valid.Length);
     }
+
+    // NIST SP 1065 5.6 (lag-1 autocorrelation), from frequency data as written there: the averages of m readings (a block
+    // with a gap dropped), a straight line fitted by the plain normal equations in the index and subtracted, r1 about the
+    // mean, differenced until delta = r1 / (1 + r1) < 0.25 or maxDifferences is reached; alpha = -round(2 delta) - 2d.
+    public static int? NoiseAlpha(double[] y, int m, int maxDifferences)
+    {
+        var z = new List<double>();
+        for (int start = 0; start + m <= y.Length; start += m)
+        {
+            var block = y.Skip(start).Take(m).ToArray();
+            if (!block.Any(double.IsNaN))
+            {
+                z.Add(block.Average());
+            }
+        }
+
+        if (z.Count < 30)
+        {
+            return null;
+        }
+
+        int n = z.Count;
+        double st = 0, stt = 0, sz = 0, stz = 0;
+        for (int i = 0; i < n; i++)
+        {
+            st += i;
+            stt += (double)i * i;
+            sz += z[i];
+            stz += i * z[i];
+        }
+
+        double slope = (n * stz - st * sz) / (n * stt - st * st);
+        double intercept = (sz - slope * st) / n;
+        var series = Enumerable.Range(0, n).Select(i => z[i] - (intercept + slope * i)).ToArray();
+        for (int d = 0; ; d++)
+        {
+            double mean = series.Average();
+            double num = 0, den = 0;
+            for (int i = 0; i < series.Length; i++)
+            {
+                den += (series[i] - mean) * (series[i] - mean);
+                if (i + 1 < series.Length)
+                {
+                    num += (series[i] - mean) * (series[i + 1] - mean);
+                }
+            }
+
+            double r1 = num / den;
+            double delta = r1 / (1 + r1);
+            if (delta < 0.25 || d >= maxDifferences)
+            {
+                return Math.Clamp(-(int)Math.Round(2 * delta, MidpointRounding.AwayFromZero) - 2 * d, -2 * maxDifferences, 2);
+            }
+
+            series = Enumerable.Range(0, series.Length - 1).Select(i => series[i + 1] - series[i]).ToArray();
+        }
+    }
 }
