@@ -26,9 +26,9 @@ timed() { # ten requests: "best median worst"
 for _ in 1 2 3; do post >/dev/null; done
 read -r cold_best cold cold_worst <<< "$(timed)"
 echo "round trip just after start (requests 4-13): best $cold_best s, median $cold s, worst $cold_worst s"
-for _ in $(seq $(( ${STEADY_AFTER:-150} - 23 ))); do post >/dev/null; done
-read -r steady_best steady steady_worst <<< "$(timed)"
 last=${STEADY_AFTER:-150}
+for _ in $(seq $(( last - 23 ))); do post >/dev/null; done
+read -r steady_best steady steady_worst <<< "$(timed)"
 echo "round trip in steady state (requests $(( last - 9 ))-$last): best $steady_best s, median $steady s, worst $steady_worst s"
 baseline=$("$python" tests/load/stability_numpy.py "$n")
 echo "$baseline"

@@ -102,8 +102,6 @@ internal static class Deviations
             var carry = Vector256.Create(inner);
             var two = Vector256.Create(2.0);
             var three = Vector256.Create(3.0);
-            var notFirst = Vector256.Create(0, -1L, -1L, -1L).AsDouble();
-            var notFirstTwo = Vector256.Create(0, 0, -1L, -1L).AsDouble();
             for (; k <= third - 4; k += 4)
             {
                 var a = Vector256.LoadUnsafe(ref origin, (nuint)k);
@@ -117,11 +115,10 @@ internal static class Deviations
 
                 // running sums of d3 across the four lanes, then carried in from the lanes before (the carry moves on by the
                 // four lanes' total, so that only one addition lies on the path from one step to the next)
-                var prefix = d3 + (Vector256.Shuffle(d3, Vector256.Create(0L, 0, 1, 2)) & notFirst);
-                prefix += Vector256.Shuffle(prefix, Vector256.Create(0L, 0, 0, 1)) & notFirstTwo;
+                var prefix = Lanes.RunningSum(d3);
                 var inners = carry + prefix;
                 accModified += inners * inners;
-                carry += Vector256.Shuffle(prefix, Vector256.Create(3L, 3, 3, 3));
+                carry += Lanes.Last(prefix);
             }
 
             sumSecond = Vector256.Sum(accSecond);

@@ -42,7 +42,7 @@ internal sealed class NoiseIdentification
 
             // the first lag-1 autocorrelation is taken of the residuals as they are computed; they are stored only when the
             // series has to be differenced
-            var trend = Trend(series.Length, phase ? 2 : 1, moments);
+            var trend = FitTrend(series.Length, phase ? 2 : 1, moments);
             double? r1 = LagOneOfResiduals(series, trend);
             for (int d = 0; ; d++)
             {
@@ -95,30 +95,29 @@ internal sealed class NoiseIdentification
                 }
             }
         }
-        else if (_series.GapCount == 0)
-        {
-            var x = _series.X;
-            double scale = 1 / (m * _series.Tau0);
-            count = values.Length / m;
-            double c = (count - 1) / 2.0;
-            double b0 = 0, b1 = 0, b2 = 0;
-            for (int k = 0; k < count; k++)
-            {
-                double v = (x[(k + 1) * m] - x[k * m]) * scale;
-                double t = k - c;
-                z[k] = v;
-                b0 += v;
-                b1 += t * v;
-                b2 += t * t * v;
-            }
-
-            moments = (b0, b1, b2);
-            return z.AsSpan(0, count);
-        }
         else
         {
             var x = _series.X;
             double scale = 1 / (m * _series.Tau0);
+            if (_series.GapCount == 0)
+            {
+                count = values.Length / m;
+                double c = (count - 1) / 2.0;
+                double b0 = 0, b1 = 0, b2 = 0;
+                for (int k = 0; k < count; k++)
+                {
+                    double v = (x[(k + 1) * m] - x[k * m]) * scale;
+                    double t = k - c;
+                    z[k] = v;
+                    b0 += v;
+                    b1 += t * v;
+                    b2 += t * t * v;
+                }
+
+                moments = (b0, b1, b2);
+                return z.AsSpan(0, count);
+            }
+
             for (int start = 0; start + m <= values.Length; start += m)
             {
                 if (_series.Complete(start, start + m))
@@ -136,7 +135,7 @@ internal sealed class NoiseIdentification
     // Least-squares polynomial of degree 1 or 2 in the centred index t = i - (n - 1)/2, as c0 + c1 t + c2 t^2. With a centred
     // index the odd power sums vanish, so the normal equations split: c1 = sum(t z) / sum(t^2), and c0, c2 from a 2 x 2
     // system; the even power sums have closed forms.
-    internal static (double C0, double C1, double C2) Trend(int n, int degree, (double B0, double B1, double B2) moments)
+    internal static Trend FitTrend(int n, int degree, (double B0, double B1, double B2) moments)
     {
         var (b0, b1, b2) = moments;
         double s0 = n, s2 = n * ((double)n * n - 1) / 12, s4 = n * ((double)n * n - 1) * (3.0 * n * n - 7) / 240;
@@ -152,48 +151,38 @@ internal sealed class NoiseIdentification
             }
         }
 
-        return (c0, c1, c2);
+        return new Trend(c0, c1, c2);
     }
 
     // The trend subtracted, in place.
-    internal static void Subtract(Span<double> z, (double C0, double C1, double C2) trend)
+    internal static void Subtract(Span<double> z, Trend trend)
     {
         int n = z.Length;
         double c = (n - 1) / 2.0;
-        var (c0, c1, c2) = trend;
         int i = 0;
         if (Vector256.IsHardwareAccelerated)
         {
             var t = Vector256.Create(-c, 1 - c, 2 - c, 3 - c);
             var four = Vector256.Create(4.0);
-            var (v0, v1, v2) = (Vector256.Create(c0), Vector256.Create(c1), Vector256.Create(c2));
             for (; i <= n - 4; i += 4, t += four)
             {
                 var slice = z.Slice(i, 4);
-                (Vector256.Create<double>(slice) - (v0 + (v1 + v2 * t) * t)).CopyTo(slice);
+                (Vector256.Create<double>(slice) - trend.At(t)).CopyTo(slice);
             }
         }
 
         for (; i < n; i++)
         {
-            double t = i - c;
-            z[i] -= c0 + (c1 + c2 * t) * t;
+            z[i] -= trend.At(i - c);
         }
     }
 
     // The lag-1 autocorrelation of the residuals e = z - trend without storing them: one pass gives sum e, sum e^2 and
     // sum e_i e_(i+1), from which the autocorrelation about the residuals' mean follows exactly as LagOne takes it.
-    internal static double? LagOneOfResiduals(ReadOnlySpan<double> z, (double C0, double C1, double C2) trend)
+    internal static double? LagOneOfResiduals(ReadOnlySpan<double> z, Trend trend)
     {
         int n = z.Length;
         double c = (n - 1) / 2.0;
-        var (c0, c1, c2) = trend;
-        double Residual(ReadOnlySpan<double> z, int i)
-        {
-            double t = i - c;
-            return z[i] - (c0 + (c1 + c2 * t) * t);
-        }
-
         double sum = 0, squares = 0, products = 0;
         int k = 0;
         if (Vector256.IsHardwareAccelerated)
@@ -201,13 +190,11 @@ internal sealed class NoiseIdentification
             var t = Vector256.Create(-c, 1 - c, 2 - c, 3 - c);
             var one = Vector256.Create(1.0);
             var four = Vector256.Create(4.0);
-            var (v0, v1, v2) = (Vector256.Create(c0), Vector256.Create(c1), Vector256.Create(c2));
             Vector256<double> s = default, q = default, p = default;
             for (; k <= n - 5; k += 4, t += four)
             {
-                var e = Vector256.Create(z.Slice(k, 4)) - (v0 + (v1 + v2 * t) * t);
-                var tn = t + one;
-                var next = Vector256.Create(z.Slice(k + 1, 4)) - (v0 + (v1 + v2 * tn) * tn);
+                var e = Vector256.Create(z.Slice(k, 4)) - trend.At(t);
+                var next = Vector256.Create(z.Slice(k + 1, 4)) - trend.At(t + one);
                 s += e;
                 q += e * e;
                 p += e * next;
@@ -218,17 +205,18 @@ internal sealed class NoiseIdentification
 
         for (; k < n; k++)
         {
-            double e = Residual(z, k);
+            double e = z[k] - trend.At(k - c);
             sum += e;
             squares += e * e;
             if (k + 1 < n)
             {
-                products += e * Residual(z, k + 1);
+                products += e * (z[k + 1] - trend.At(k + 1 - c));
             }
         }
 
+        double first = z[0] - trend.At(-c), last = z[n - 1] - trend.At(c);
         double mean = sum / n;
-        double num = products - mean * (sum - Residual(z, 0)) - mean * (sum - Residual(z, n - 1)) + (n - 1) * mean * mean;
+        double num = products - mean * (sum - first) - mean * (sum - last) + (n - 1) * mean * mean;
         double den = squares - n * mean * mean;
         return den > 0 ? num / den : null;
     }
@@ -332,4 +320,13 @@ internal sealed class NoiseIdentification
 
         return z[..^1];
     }
+}
+
+/// <summary>A fitted trend c0 + c1 t + c2 t^2 in the centred index t.</summary>
+internal readonly record struct Trend(double C0, double C1, double C2)
+{
+    public double At(double t) => C0 + (C1 + C2 * t) * t;
+
+    public Vector256<double> At(Vector256<double> t) =>
+        Vector256.Create(C0) + (Vector256.Create(C1) + Vector256.Create(C2) * t) * t;
 }

@@ -137,17 +137,14 @@ internal sealed class PhaseSeries : IDisposable
             ref double target = ref MemoryMarshal.GetArrayDataReference(x);
             var m = Vector256.Create(mean);
             var t = Vector256.Create(tau0);
-            var notFirst = Vector256.Create(0, -1L, -1L, -1L).AsDouble();
-            var notFirstTwo = Vector256.Create(0, 0, -1L, -1L).AsDouble();
             var carry = Vector256<double>.Zero;
             for (; i <= y.Length - 4; i += 4)
             {
                 var v = Vector256.LoadUnsafe(ref origin, (nuint)i);
                 var step = (v - m) * t & Vector256.Equals(v, v);
-                var prefix = step + (Vector256.Shuffle(step, Vector256.Create(0L, 0, 1, 2)) & notFirst);
-                prefix += Vector256.Shuffle(prefix, Vector256.Create(0L, 0, 0, 1)) & notFirstTwo;
+                var prefix = Lanes.RunningSum(step);
                 (carry + prefix).StoreUnsafe(ref target, (nuint)(i + 1));
-                carry += Vector256.Shuffle(prefix, Vector256.Create(3L, 3, 3, 3));
+                carry += Lanes.Last(prefix);
             }
 
             carried = carry.GetElement(0);

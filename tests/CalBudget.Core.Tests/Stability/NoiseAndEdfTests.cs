@@ -55,7 +55,7 @@ public class NoiseAndEdfTests
     {
         var noise = ReferenceData.Noise(0, n, seed: n);
         var z = Enumerable.Range(0, n).Select(i => 5.0 + 1e-3 * i - 2e-7 * i * (double)i + noise[i]).ToArray();
-        var trend = NoiseIdentification.Trend(n, degree, NoiseIdentification.Moments(z, (n - 1) / 2.0));
+        var trend = NoiseIdentification.FitTrend(n, degree, NoiseIdentification.Moments(z, (n - 1) / 2.0));
         double? onePass = NoiseIdentification.LagOneOfResiduals(z, trend);
         NoiseIdentification.Subtract(z, trend);
         double? stored = NoiseIdentification.LagOne(z);
