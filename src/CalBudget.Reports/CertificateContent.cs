@@ -45,6 +45,9 @@ public sealed record CertificateContent
     /// <summary>The budget's combined and expanded lines under the table.</summary>
     public required IReadOnlyList<string> BudgetSummary { get; init; }
 
+    /// <summary>The in-use prediction, labelled as such, when the budget has one.</summary>
+    public IReadOnlyList<string>? Prediction { get; init; }
+
     /// <summary>The decision rule and the outcome, when a statement of conformity was asked for.</summary>
     public IReadOnlyList<string>? Conformity { get; init; }
 

@@ -80,6 +80,11 @@ public sealed class CertificateRenderer(CertificateFonts fonts)
             PostureSection();
             ResultsSection();
             BudgetSection();
+            if (_c.Prediction is { } prediction)
+            {
+                Section("In-use prediction (not the uncertainty of the result)", prediction);
+            }
+
             if (_c.Conformity is { } conformity)
             {
                 Section("Statement of conformity", conformity);

@@ -118,9 +118,10 @@ public sealed class CertificatesTests : IDisposable
             "on its left side", "upside down", "within ± 2.0E-09",                                          // the other postures and their shift
             "as found", "as left", "no adjustment was made",                                               // results as found and as left
             "coverage factor k = 2.00", "coverage probability of approximately 95.45 %",                    // U with k and p in words
-            "reference standard", "comparator resolution", "repeatability", "retrace",                    // the budget table
+            "reference standard", "comparator", "repeatability", "temperature during the run",             // the budget table (calibration lines)
+            "In-use prediction (not the uncertainty of the result)", "until 2027-11-30",                  // the prediction, labelled, with its assumptions
             "non-binary statement of ILAC-G8:09/2019", "Outcome:", "Probability of conformity",            // the decision rule and the outcome
-            "Recommended recall", "Predictive",                                                             // the recall interval, asked for
+            "longest interval of 730 days", "Predictive",                                                   // the recall interval, asked for (within tolerance for the longest interval)
             "Overlapping Allan deviation of the run", "History of the instrument's results",               // the two plots
             "relates only to the item calibrated",                                                          // the caution
             "Authorised by ola, approver",                                                                  // the approver's name and role

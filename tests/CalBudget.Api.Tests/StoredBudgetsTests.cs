@@ -74,8 +74,8 @@ public sealed class StoredBudgetsTests : IDisposable
     private static string Build(long run, string template, string policy = """{ "kind": "as-calibrated" }""", string extra = "") =>
         $$"""{ "runId": {{run}}, "templateId": "{{template}}", "posturePolicy": {{policy}}{{extra}} }""";
 
-    private static double U(JsonNode budget, string name) =>
-        budget["result"]!["contributions"]!.AsArray().Single(c => c!["name"]!.GetValue<string>() == name)!["standardUncertainty"]!.GetValue<double>();
+    private static double U(JsonNode result, string name) =>
+        result["contributions"]!.AsArray().Single(c => c!["name"]!.GetValue<string>() == name)!["standardUncertainty"]!.GetValue<double>();
 
     private static void Near(double expected, double actual, string what) =>
         Assert.True(Math.Abs(expected - actual) <= 1e-12 * Math.Abs(expected) + 1e-30, $"{what}: expected {expected:R}, got {actual:R}");
@@ -85,6 +85,9 @@ public sealed class StoredBudgetsTests : IDisposable
     private const double ReferenceEstimate = 2.5e-12;
     private static readonly double ReferenceU = Math.Sqrt(1e-24 + 4e-26);
 
+    // The run records a temperature variation of 0.4 K (LabRecords.RunBody): 1e-10/K x 0.4 K = 4e-11, rectangular.
+    private static readonly double RunTemperatureU = 1e-10 * 0.4 / Math.Sqrt(3);
+
     // Type A by hand for white FM readings: the standard deviation of the mean, s / sqrt(n) with n - 1 = 199 degrees of freedom.
     private static (double Mean, double Sdom) TypeA(double[] y)
     {
@@ -93,12 +96,11 @@ public sealed class StoredBudgetsTests : IDisposable
         return (mean, s / Math.Sqrt(y.Length));
     }
 
-    private static void CheckTotals(JsonNode version, IReadOnlyDictionary<string, double> expectedU, double expectedY)
+    private static void CheckTotals(JsonNode result, IReadOnlyDictionary<string, double> expectedU, double expectedY)
     {
-        var result = version["result"]!;
         foreach (var (name, u) in expectedU)
         {
-            Near(u, U(version, name), name);
+            Near(u, U(result, name), name);
         }
 
         Assert.Equal(expectedU.Keys.Order(StringComparer.Ordinal), result["contributions"]!.AsArray().Select(c => c!["name"]!.GetValue<string>()).Order(StringComparer.Ordinal));
@@ -110,8 +112,19 @@ public sealed class StoredBudgetsTests : IDisposable
         Near(k * result["combinedStandardUncertainty"]!.GetValue<double>(), result["expandedUncertainty"]!.GetValue<double>(), "U = k u_c");
     }
 
+    // The calibration lines every quartz template shares, worked by hand for the white readings of RunAsync: the readings
+    // scatter by s = 3e-12 >= the resolution 1e-12, so quantization is in Type A and the comparator adds nothing (no
+    // systematic error stated); the specification states no warm-up, so that line is 0.
+    private static Dictionary<string, double> QuartzCalibration(double sdom) => new()
+    {
+        ["reference standard"] = ReferenceU,
+        ["comparator"] = 0,
+        ["repeatability"] = sdom,
+        ["temperature during the run"] = RunTemperatureU,
+    };
+
     [Fact]
-    public async Task TheOcxoCounterBudgetIsTheArithmeticOfItsModels()
+    public async Task TheOcxoCounterBudgetKeepsTheCalibrationResultApartFromTheInUsePrediction()
     {
         var (tech, run, y) = await RunAsync("OCXO", "CB-0042");
         var budget = await Json.PostAsync(tech, "/api/v1/budgets", Build(run, "ocxo-counter", """{ "kind": "tilt-limit", "tiltLimitDegrees": 20 }"""), HttpStatusCode.Created);
@@ -119,51 +132,70 @@ public sealed class StoredBudgetsTests : IDisposable
         Assert.Equal("draft", v["state"]!.GetValue<string>());
         var (mean, sdom) = TypeA(y);
         Assert.Contains("StandardDeviationOfMean", v["lines"]!.AsArray().Single(l => l!["name"]!.GetValue<string>() == "repeatability")!["source"]!.GetValue<string>(), StringComparison.Ordinal);
-        CheckTotals(v, new Dictionary<string, double>
+        // the calibration result: the measurement's own contributions only
+        var calibration = QuartzCalibration(sdom);
+        calibration["warm-up"] = 0;
+        CheckTotals(v["result"]!, calibration, mean + ReferenceEstimate);
+        Assert.Equal("GUM", v["calibrationResult"]!["governs"]!.GetValue<string>());
+        // 2 x sqrt(ReferenceU^2 + sdom^2 + RunTemperatureU^2) is about 4.6e-11, above the CMC of 2e-12: no floor, within the scope
+        Assert.False(v["calibrationResult"]!["cmcApplied"]!.GetValue<bool>());
+        Assert.True(v["calibrationResult"]!["withinScope"]!.GetValue<bool>());
+        Near(v["result"]!["expandedUncertainty"]!.GetValue<double>(), v["calibrationResult"]!["expandedUncertainty"]!.GetValue<double>(), "stated U");
+
+        // the in-use prediction: the calibration lines and the in-use lines, over the template's 365 days
+        var prediction = v["prediction"]!;
+        var inUse = new Dictionary<string, double>(calibration)
         {
-            ["reference standard"] = ReferenceU,
-            ["comparator resolution"] = 0.5e-12 / Math.Sqrt(3),                          // a = 1e-12 / 2, rectangular: a / sqrt 3
-            ["repeatability"] = sdom,
-            ["orientation"] = 1e-9 * 2 * Math.Sin(10 * Math.PI / 180) / Math.Sqrt(3),    // |Gamma| x chord 2 sin(20 deg / 2) = 3.473e-10
-            ["temperature"] = 1e-10 * 5 / Math.Sqrt(3),                                  // 1e-10/K x 5 K
-            ["aging"] = 5e-10 * 365 / Math.Sqrt(3),                                      // 5e-10/day x 365 days = 1.825e-7
+            ["orientation of use"] = 1e-9 * 2 * Math.Sin(10 * Math.PI / 180) / Math.Sqrt(3),    // |Gamma| x chord 2 sin(20 deg / 2) = 3.473e-10
+            ["temperature of use"] = 1e-10 * 5 / Math.Sqrt(3),                                  // 1e-10/K x 5 K
+            ["aging"] = 5e-10 * 365 / Math.Sqrt(3),                                             // specified 5e-10/day x 365 days (no aging fit yet)
             ["retrace"] = 5e-9 / Math.Sqrt(3),
-        }, mean + ReferenceEstimate);
+        };
+        CheckTotals(prediction["result"]!, inUse, mean + ReferenceEstimate);
+        Assert.Equal(365, prediction["holdDays"]!.GetValue<double>());
+        Assert.Equal(["orientation of use", "temperature of use", "aging", "retrace"], prediction["lines"]!.AsArray().Select(l => l!.GetValue<string>()));
+        string statement = prediction["statement"]!.GetValue<string>();
+        Assert.StartsWith("In-use prediction (not the uncertainty of the calibration result)", statement, StringComparison.Ordinal);
+        Assert.Contains("until 2027-11-30", statement, StringComparison.Ordinal);
+        Assert.Contains("within 20° of the calibration posture", statement, StringComparison.Ordinal);
+        Assert.Contains("at 23.1 ± 5 °C", statement, StringComparison.Ordinal);
+        Assert.All(v["lines"]!.AsArray(), l => Assert.Contains(l!["stage"]!.GetValue<string>(), new[] { "calibration", "in-use" }));
     }
 
     [Fact]
-    public async Task TheTcxoGeneratorBudgetTakesTheKnownPostureOfUse()
+    public async Task TheTcxoGeneratorPredictionTakesTheKnownPostureOfUseAndTheCalibrationResultStaysAsCalibrated()
     {
         var (tech, run, y) = await RunAsync("TCXO", "CB-0051");
         var budget = await Json.PostAsync(tech, "/api/v1/budgets", Build(run, "tcxo-generator", """{ "kind": "known", "useUp": "-x" }"""), HttpStatusCode.Created);
         var (mean, sdom) = TypeA(y);
-        CheckTotals(budget["latest"]!, new Dictionary<string, double>
+        var calibration = QuartzCalibration(sdom);
+        CheckTotals(budget["latest"]!["result"]!, calibration, mean + ReferenceEstimate);
+        CheckTotals(budget["latest"]!["prediction"]!["result"]!, new Dictionary<string, double>(calibration)
         {
-            ["reference standard"] = ReferenceU,
-            ["comparator resolution"] = 0.5e-12 / Math.Sqrt(3),
-            ["repeatability"] = sdom,
-            ["orientation"] = 1e-9 * Math.Sqrt(2) / Math.Sqrt(3),                       // |up_use - up_cal| = |(-1,0,0) - (0,0,1)| = sqrt 2
-            ["temperature"] = 1e-10 * 10 / Math.Sqrt(3),                                 // band 10 K in this template
+            ["orientation of use"] = 1e-9 * Math.Sqrt(2) / Math.Sqrt(3),                       // |up_use - up_cal| = |(-1,0,0) - (0,0,1)| = sqrt 2
+            ["temperature of use"] = 1e-10 * 10 / Math.Sqrt(3),                                 // band 10 K in this template
             ["aging"] = 5e-10 * 365 / Math.Sqrt(3),
             ["supply"] = 1e-8 / Math.Sqrt(3),
         }, mean + ReferenceEstimate);
+        Assert.Contains("in the posture of use with up vector (-1, 0, 0)", budget["latest"]!["prediction"]!["statement"]!.GetValue<string>(), StringComparison.Ordinal);
     }
 
     [Fact]
-    public async Task TheRubidiumReferenceBudgetHasItsStatedTerm()
+    public async Task TheRubidiumReferenceBudgetHasItsStatedTerms()
     {
         var (tech, run, y) = await RunAsync("rubidium", "CB-0188");
         var budget = await Json.PostAsync(tech, "/api/v1/budgets", Build(run, "rubidium-reference"), HttpStatusCode.Created);
         var (mean, sdom) = TypeA(y);
-        CheckTotals(budget["latest"]!, new Dictionary<string, double>
+        var calibration = QuartzCalibration(sdom);
+        calibration["warm-up"] = 0;
+        calibration["magnetic field of the bench"] = 2e-13 / Math.Sqrt(3);
+        CheckTotals(budget["latest"]!["result"]!, calibration, mean + ReferenceEstimate);
+        CheckTotals(budget["latest"]!["prediction"]!["result"]!, new Dictionary<string, double>(calibration)
         {
-            ["reference standard"] = ReferenceU,
-            ["comparator resolution"] = 0.5e-12 / Math.Sqrt(3),
-            ["repeatability"] = sdom,
-            ["temperature"] = 1e-10 * 3 / Math.Sqrt(3),
+            ["temperature of use"] = 1e-10 * 3 / Math.Sqrt(3),
             ["aging"] = 5e-10 * 365 / Math.Sqrt(3),
             ["retrace"] = 5e-9 / Math.Sqrt(3),
-            ["magnetic field"] = 2e-12 / Math.Sqrt(3),
+            ["magnetic field of use"] = 2e-12 / Math.Sqrt(3),
         }, mean + ReferenceEstimate);
     }
 
@@ -173,12 +205,17 @@ public sealed class StoredBudgetsTests : IDisposable
         var (tech, run, y) = await RunAsync("GNSS-disciplined", "CB-0150");
         var budget = await Json.PostAsync(tech, "/api/v1/budgets", Build(run, "gnss-reference"), HttpStatusCode.Created);
         var (mean, sdom) = TypeA(y);
-        CheckTotals(budget["latest"]!, new Dictionary<string, double>
+        var calibration = new Dictionary<string, double>
         {
             ["reference standard"] = ReferenceU,
-            ["comparator resolution"] = 0.5e-12 / Math.Sqrt(3),
+            ["comparator"] = 0,
             ["repeatability"] = sdom,
-            ["holdover and steering"] = 5e-13,                                           // stated normal u
+            ["steering during the run"] = 5e-13,                                                // stated normal u
+        };
+        CheckTotals(budget["latest"]!["result"]!, calibration, mean + ReferenceEstimate);
+        CheckTotals(budget["latest"]!["prediction"]!["result"]!, new Dictionary<string, double>(calibration)
+        {
+            ["holdover and steering in use"] = 2e-12,
             ["antenna and cable delay changes"] = 1e-13 / Math.Sqrt(3),
         }, mean + ReferenceEstimate);
     }
@@ -198,6 +235,9 @@ public sealed class StoredBudgetsTests : IDisposable
         var again = await Json.PostAsync(tech, "/api/v1/budgets/evaluate", stored["snapshot"]!["evaluate"]!.ToJsonString(), HttpStatusCode.OK);
         Assert.Equal(stored["result"]!.ToJsonString(), again.ToJsonString());
         Assert.NotNull(stored["result"]!["monteCarlo"]);
+        // and the prediction's own request gives the stored prediction
+        var predicted = await Json.PostAsync(tech, "/api/v1/budgets/evaluate", stored["prediction"]!["evaluate"]!.ToJsonString(), HttpStatusCode.OK);
+        Assert.Equal(stored["prediction"]!["result"]!.ToJsonString(), predicted.ToJsonString());
     }
 
     [Fact]
@@ -257,11 +297,15 @@ public sealed class StoredBudgetsTests : IDisposable
 
         var diff = await Json.ReadAsync(await tech.GetAsync($"{path}/diff?from=1&to=2"), HttpStatusCode.OK);
         var rows = diff["contributions"]!.AsArray().ToDictionary(r => r!["name"]!.GetValue<string>(), r => r!);
-        Assert.Equal("changed", rows["orientation"]["change"]!.GetValue<string>());
-        Assert.All(rows.Where(r => r.Key != "orientation"), r => Assert.Equal("same", r.Value["change"]!.GetValue<string>()));
-        // any orientation: 2 |Gamma| against 2 sin(10 deg) |Gamma|, both rectangular
-        Near(2e-9 / Math.Sqrt(3), rows["orientation"]["standardUncertainty"]![1]!.GetValue<double>(), "u after");
-        Near(2e-9 * Math.Sin(10 * Math.PI / 180) / Math.Sqrt(3), rows["orientation"]["standardUncertainty"]![0]!.GetValue<double>(), "u before");
+        Assert.Equal("changed", rows["orientation of use"]["change"]!.GetValue<string>());
+        Assert.All(rows.Where(r => r.Key != "orientation of use"), r => Assert.Equal("same", r.Value["change"]!.GetValue<string>()));
+        // any orientation: 2 |Gamma| against 2 sin(10 deg) |Gamma|, both rectangular (lines of the in-use prediction)
+        Near(2e-9 / Math.Sqrt(3), rows["orientation of use"]["standardUncertainty"]![1]!.GetValue<double>(), "u after");
+        Near(2e-9 * Math.Sin(10 * Math.PI / 180) / Math.Sqrt(3), rows["orientation of use"]["standardUncertainty"]![0]!.GetValue<double>(), "u before");
+        Assert.Equal(["in-use", "in-use"], rows["orientation of use"]["stage"]!.AsArray().Select(x => x!.GetValue<string>()));
+        // the calibration result does not move with the posture of use; the prediction does
+        Assert.Equal(diff["expandedUncertainty"]![0]!.GetValue<double>(), diff["expandedUncertainty"]![1]!.GetValue<double>());
+        Assert.True(diff["predictionExpandedUncertainty"]![1]!.GetValue<double>() > diff["predictionExpandedUncertainty"]![0]!.GetValue<double>());
     }
 
     [Fact]
@@ -299,7 +343,8 @@ public sealed class StoredBudgetsTests : IDisposable
         Assert.Equal(["overrides[0].reason"], Json.ErrorFields(refused));
         var budget = await Json.PostAsync(tech, "/api/v1/budgets", Build(run, "ocxo-counter", extra:
             """, "overrides": [ { "name": "aging", "reason": "the result holds for 30 days only", "distribution": "rectangular", "halfWidth": 1.5e-8 } ]"""), HttpStatusCode.Created);
-        Near(1.5e-8 / Math.Sqrt(3), U(budget["latest"]!, "aging"), "aging overridden");
+        Near(1.5e-8 / Math.Sqrt(3), U(budget["latest"]!["prediction"]!["result"]!, "aging"), "aging overridden");
+        Assert.DoesNotContain(budget["latest"]!["result"]!["contributions"]!.AsArray(), c => c!["name"]!.GetValue<string>() == "aging");
         var line = budget["latest"]!["lines"]!.AsArray().Single(l => l!["name"]!.GetValue<string>() == "aging")!;
         Assert.Equal("override", line["model"]!.GetValue<string>());
         Assert.Contains("30 days only", line["source"]!.GetValue<string>(), StringComparison.Ordinal);
@@ -361,9 +406,13 @@ public sealed class StoredBudgetsTests : IDisposable
         var budget = await Json.PostAsync(tech, "/api/v1/budgets", Build(runs[4], "ocxo-counter", """{ "kind": "known", "useUp": "-x" }"""), HttpStatusCode.Created);
         var shift = await Json.PostAsync(tech, "/api/v1/orientation/shift",
             $$"""{ "gamma": {{test["gamma"]!.ToJsonString()}}, "gammaCovariance": {{test["covariance"]!.ToJsonString()}}, "calibrationUp": "+z", "useUp": "-x" }""", HttpStatusCode.OK);
-        var line = budget["latest"]!["lines"]!.AsArray().Single(l => l!["name"]!.GetValue<string>() == "orientation")!;
+        var line = budget["latest"]!["lines"]!.AsArray().Single(l => l!["name"]!.GetValue<string>() == "orientation of use")!;
         Near(Json.Number(shift["shift"]), Json.Number(line["input"]!["estimate"]), "orientation correction");
-        Near(Json.Number(shift["standardUncertainty"]), U(budget["latest"]!, "orientation"), "orientation u");
+        Near(Json.Number(shift["standardUncertainty"]), U(budget["latest"]!["prediction"]!["result"]!, "orientation of use"), "orientation u");
+        // nu = n - 4 = 2 of the six-posture fit, carried into the line
+        Assert.Equal(2, Json.Number(line["input"]!["degreesOfFreedom"]));
+        // the known posture's correction moves the prediction, never the value stated for the calibration posture
+        Near(Json.Number(budget["latest"]!["result"]!["estimate"]) + Json.Number(shift["shift"]), Json.Number(budget["latest"]!["prediction"]!["result"]!["estimate"]), "predicted y");
         Assert.Contains("tip-over test", line["source"]!.GetValue<string>(), StringComparison.Ordinal);
         var tooFew = await Json.ProblemAsync(await tech.PostAsync($"/api/v1/instruments/{instrument}/sensitivity-tests", Json.Body($$"""{ "runIds": [{{runs[0]}},{{runs[1]}},{{runs[2]}}] }""")), HttpStatusCode.BadRequest);
         Assert.Equal(["runIds"], Json.ErrorFields(tooFew));
@@ -443,7 +492,11 @@ public sealed class StoredBudgetsTests : IDisposable
     [InlineData("""{ "id": "bad", "version": 1, "title": "t", "appliesTo": ["maser"], "coverageProbability": 0.95, "contributions": [ { "name": "a", "model": "reference" } ] }""", "appliesTo[0]")]
     [InlineData("""{ "id": "bad", "version": 1, "title": "t", "appliesTo": ["OCXO"], "coverageProbability": 1.5, "contributions": [ { "name": "a", "model": "reference" } ] }""", "coverageProbability")]
     [InlineData("""{ "id": "bad", "version": 1, "title": "t", "appliesTo": ["OCXO"], "coverageProbability": 0.95, "contributions": [ { "name": "a", "model": "magic" } ] }""", "contributions[0].model")]
-    [InlineData("""{ "id": "bad", "version": 1, "title": "t", "appliesTo": ["OCXO"], "coverageProbability": 0.95, "contributions": [ { "name": "a", "model": "aging" } ] }""", "contributions[0].holdDays")]
+    [InlineData("""{ "id": "bad", "version": 1, "title": "t", "appliesTo": ["OCXO"], "coverageProbability": 0.95, "contributions": [ { "name": "a", "model": "aging" } ] }""", "holdDays")]
+    [InlineData("""{ "id": "bad", "version": 1, "title": "t", "appliesTo": ["OCXO"], "coverageProbability": 0.95, "holdDays": 365, "contributions": [ { "name": "a", "model": "aging", "stage": "calibration" } ] }""", "contributions[0].stage")]
+    [InlineData("""{ "id": "bad", "version": 1, "title": "t", "appliesTo": ["OCXO"], "coverageProbability": 0.95, "contributions": [ { "name": "a", "model": "type-a", "stage": "later" } ] }""", "contributions[0].stage")]
+    [InlineData("""{ "id": "bad", "version": 1, "title": "t", "appliesTo": ["OCXO"], "coverageProbability": 0.95, "contributions": [ { "name": "a", "model": "warm-up", "whenShort": "line" } ] }""", "contributions[0].halfWidth")]
+    [InlineData("""{ "id": "bad", "version": 1, "title": "t", "appliesTo": ["OCXO"], "coverageProbability": 0.95, "contributions": [ { "name": "a", "model": "warm-up", "whenShort": "maybe" } ] }""", "contributions[0].whenShort")]
     [InlineData("""{ "id": "bad", "version": 1, "title": "t", "appliesTo": ["OCXO"], "coverageProbability": 0.95, "contributions": [ { "name": "a", "model": "reference" }, { "name": "a", "model": "resolution" } ] }""", "contributions[1].name")]
     [InlineData("""{ "id": "bad", "version": 1, "title": "t", "appliesTo": ["OCXO"], "coverageProbability": 0.95, "contributions": [ { "name": "a", "model": "reference", "colour": 1 } ] }""", "contributions[0].colour")]
     public void AMalformedTemplateIsRefusedNamingFileAndField(string text, string field)

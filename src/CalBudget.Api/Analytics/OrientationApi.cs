@@ -78,10 +78,9 @@ public static class OrientationApi
         try
         {
             var fit = AccelerationSensitivity.Fit(readings);
-            double[][]? covariance = fit.Covariance is { } c
-                ? Enumerable.Range(0, 3).Select(i => Enumerable.Range(0, 3).Select(j => c[i, j]).ToArray()).ToArray()
-                : null;
-            return TypedResults.Ok(new SensitivityResponse(fit.Gamma.ToArray(), fit.Magnitude, fit.OffsetAtRest, fit.StandardUncertainty, covariance, fit.DegreesOfFreedom));
+            static double[][]? Rows(double[,]? c) => c is null ? null : Enumerable.Range(0, 3).Select(i => Enumerable.Range(0, 3).Select(j => c[i, j]).ToArray()).ToArray();
+            return TypedResults.Ok(new SensitivityResponse(fit.Gamma.ToArray(), fit.Magnitude, fit.OffsetAtRest, fit.StandardUncertainty, Rows(fit.Covariance), fit.DegreesOfFreedom,
+                fit.ReducedChiSquared, Rows(fit.ScaledCovariance)));
         }
         catch (MetrologyException ex)
         {

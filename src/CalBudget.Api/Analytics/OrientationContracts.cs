@@ -19,7 +19,10 @@ public sealed record PostureObservation(JsonElement? Up, double? FractionalOffse
 /// <param name="StandardUncertainty">Standard uncertainties of the components, or null (four unweighted postures leave no degrees of freedom).</param>
 /// <param name="Covariance">3 x 3 covariance of Gamma, or null likewise.</param>
 /// <param name="DegreesOfFreedom">n - 4.</param>
-public sealed record SensitivityResponse(double[] Gamma, double Magnitude, double OffsetAtRest, double[]? StandardUncertainty, double[][]? Covariance, int DegreesOfFreedom);
+/// <param name="ReducedChiSquared">chi^2 / (n - 4) of a weighted fit (the Birge ratio squared); null when unweighted or n = 4.</param>
+/// <param name="ScaledCovariance">The covariance to propagate: the residuals' (unweighted), or the weighted covariance times max(1, chi^2/nu); null when n = 4 leaves nothing to judge the scatter by.</param>
+public sealed record SensitivityResponse(double[] Gamma, double Magnitude, double OffsetAtRest, double[]? StandardUncertainty, double[][]? Covariance, int DegreesOfFreedom,
+    double? ReducedChiSquared = null, double[][]? ScaledCovariance = null);
 
 /// <summary>The shift between postures: Gamma, the calibration posture, and exactly one of useUp, tiltLimitDegrees, anyOrientation.</summary>
 /// <param name="Gamma">[Gx, Gy, Gz] per g.</param>

@@ -47,7 +47,48 @@ public sealed record ApprovalRequest(string? Meaning);
 /// <param name="Model">The template's model, or "override".</param>
 /// <param name="Source">The inputs and the arithmetic.</param>
 /// <param name="Input">The contribution as evaluated (the fields of POST /api/v1/budgets/evaluate).</param>
-public sealed record BudgetLineDto(string Name, string Model, string Source, ContributionRequest Input);
+/// <param name="Stage">"calibration" (a line of the calibration result) or "in-use" (of the in-use prediction); absent on versions made before the two were kept apart.</param>
+public sealed record BudgetLineDto(string Name, string Model, string Source, ContributionRequest Input, string? Stage = null);
+
+/// <summary>
+/// The calibration result as the certificate states it: the evaluation of the calibration lines, with U never below the
+/// CMC that covers it (ILAC-P14), and which evaluation governs the coverage interval.
+/// </summary>
+/// <param name="Estimate">y, the mean offset over the run in the calibration posture and conditions, on the calibration date.</param>
+/// <param name="StandardUncertainty">u = U / k as stated.</param>
+/// <param name="ExpandedUncertainty">U as stated: the budget's, or the CMC's when that is larger.</param>
+/// <param name="CoverageFactor">k of the budget.</param>
+/// <param name="CoverageProbability">p.</param>
+/// <param name="EffectiveDegreesOfFreedom">nu_eff of the budget (null: infinite).</param>
+/// <param name="BudgetExpandedUncertainty">U from the budget alone.</param>
+/// <param name="WithinScope">Whether a capability of the lab's scope covers the result.</param>
+/// <param name="Capability">That capability in words, or why none does.</param>
+/// <param name="CmcExpandedUncertainty">The covering CMC's U, when one covers.</param>
+/// <param name="CmcApplied">True when U was raised to the CMC.</param>
+/// <param name="Governs">"GUM", or "Monte Carlo" when the budget's Monte Carlo run did not validate the GUM result (JCGM 101 clause 8).</param>
+/// <param name="CoverageInterval">The stated coverage interval [low, high].</param>
+public sealed record CalibrationResultDto(double Estimate, double StandardUncertainty, double ExpandedUncertainty, double CoverageFactor, double CoverageProbability,
+    double? EffectiveDegreesOfFreedom, double BudgetExpandedUncertainty, bool WithinScope, string Capability, double? CmcExpandedUncertainty, bool CmcApplied,
+    string Governs, double[] CoverageInterval);
+
+/// <summary>
+/// The in-use prediction: the calibration result carried to the end of a hold period and the conditions of use. A
+/// prediction with stated assumptions, never the uncertainty of the result.
+/// </summary>
+/// <param name="HoldDays">The hold period after calibration, days.</param>
+/// <param name="Until">The end of the hold period.</param>
+/// <param name="Assumptions">Every assumption in words.</param>
+/// <param name="Statement">The prediction as one labelled sentence.</param>
+/// <param name="Lines">The names of the in-use lines (the calibration lines come first in its evaluation).</param>
+/// <param name="Evaluate">The evaluation request: every calibration line and every in-use line.</param>
+/// <param name="Result">Its evaluation.</param>
+public sealed record PredictionDto(double HoldDays, DateTimeOffset Until, IReadOnlyList<string> Assumptions, string Statement, IReadOnlyList<string> Lines,
+    EvaluateRequest Evaluate, EvaluateResponse Result);
+
+/// <summary>What a version stores beside its calibration evaluation.</summary>
+/// <param name="Calibration">The calibration result as stated.</param>
+/// <param name="Prediction">The in-use prediction, or null for a template without in-use lines.</param>
+public sealed record BudgetStagesDto(CalibrationResultDto Calibration, PredictionDto? Prediction);
 
 /// <summary>A version of a budget.</summary>
 /// <param name="BudgetId">The budget.</param>
@@ -64,11 +105,13 @@ public sealed record BudgetLineDto(string Name, string Model, string Source, Con
 /// <param name="SignatureMeaning">What the approval means.</param>
 /// <param name="SupersededAt">When a later version was approved.</param>
 /// <param name="Lines">The lines.</param>
-/// <param name="Result">The evaluation.</param>
+/// <param name="Result">The evaluation of the calibration lines (on versions made before the two results were kept apart: of every line, as approved).</param>
 /// <param name="Snapshot">Every input as used: run, reference, specification, readings (upload and SHA-256), posture policy, overrides, the evaluation request.</param>
+/// <param name="CalibrationResult">The calibration result as stated (CMC floor, scope, which evaluation governs); null on versions made before the two results were kept apart.</param>
+/// <param name="Prediction">The in-use prediction; null when the template has no in-use lines, or on earlier versions.</param>
 public sealed record BudgetVersionDto(long BudgetId, int Number, string State, string Reason, string TemplateId, int TemplateVersion, string EngineVersion,
     DateTimeOffset MadeAt, string MadeBy, DateTimeOffset? ApprovedAt, string? ApprovedBy, string? SignatureMeaning, DateTimeOffset? SupersededAt,
-    IReadOnlyList<BudgetLineDto> Lines, EvaluateResponse Result, JsonElement Snapshot);
+    IReadOnlyList<BudgetLineDto> Lines, EvaluateResponse Result, JsonElement Snapshot, CalibrationResultDto? CalibrationResult, PredictionDto? Prediction);
 
 /// <summary>A budget with its newest version.</summary>
 /// <param name="Id">Its id.</param>
@@ -87,7 +130,7 @@ public sealed record BudgetDto(long Id, long RunId, string TemplateId, DateTimeO
 /// <param name="MadeAt">When.</param>
 /// <param name="MadeBy">By whom.</param>
 /// <param name="ApprovedBy">Approved by.</param>
-/// <param name="ExpandedUncertainty">Its U.</param>
+/// <param name="ExpandedUncertainty">Its U (the calibration result's).</param>
 public sealed record BudgetVersionSummaryDto(int Number, string State, string Reason, DateTimeOffset MadeAt, string MadeBy, string? ApprovedBy, double ExpandedUncertainty);
 
 /// <summary>What changed between two versions.</summary>
@@ -95,8 +138,11 @@ public sealed record BudgetVersionSummaryDto(int Number, string State, string Re
 /// <param name="To">The later.</param>
 /// <param name="Contributions">Each contribution in either, with its values in both.</param>
 /// <param name="Estimate">y in both.</param>
-/// <param name="ExpandedUncertainty">U in both.</param>
-public sealed record BudgetDiffDto(int From, int To, IReadOnlyList<ContributionDiffDto> Contributions, double[] Estimate, double[] ExpandedUncertainty);
+/// <param name="ExpandedUncertainty">U of the calibration result in both (as stated, after the CMC floor, where kept).</param>
+/// <param name="PredictionEstimate">The in-use prediction's y in both (null where there is none).</param>
+/// <param name="PredictionExpandedUncertainty">Its U in both.</param>
+public sealed record BudgetDiffDto(int From, int To, IReadOnlyList<ContributionDiffDto> Contributions, double[] Estimate, double[] ExpandedUncertainty,
+    double?[] PredictionEstimate, double?[] PredictionExpandedUncertainty);
 
 /// <summary>One contribution across two versions (null where it is absent).</summary>
 /// <param name="Name">The contribution.</param>
@@ -104,7 +150,8 @@ public sealed record BudgetDiffDto(int From, int To, IReadOnlyList<ContributionD
 /// <param name="StandardUncertainty">u_i in from and to.</param>
 /// <param name="Estimate">x_i in from and to.</param>
 /// <param name="Source">The source in from and to.</param>
-public sealed record ContributionDiffDto(string Name, string Change, double?[] StandardUncertainty, double?[] Estimate, string?[] Source);
+/// <param name="Stage">The line's stage in from and to.</param>
+public sealed record ContributionDiffDto(string Name, string Change, double?[] StandardUncertainty, double?[] Estimate, string?[] Source, string?[] Stage);
 
 /// <summary>A template in the list.</summary>
 /// <param name="Id">Its id.</param>
@@ -112,11 +159,14 @@ public sealed record ContributionDiffDto(string Name, string Change, double?[] S
 /// <param name="Title">What it is for.</param>
 /// <param name="AppliesTo">Oscillator kinds.</param>
 /// <param name="CoverageProbability">p.</param>
-/// <param name="Contributions">Its lines: name, model, settings.</param>
-public sealed record TemplateDto(string Id, int Version, string Title, IReadOnlyList<string> AppliesTo, double CoverageProbability, IReadOnlyList<TemplateLineDto> Contributions);
+/// <param name="Contributions">Its lines: name, model, stage, settings.</param>
+/// <param name="HoldDays">The in-use prediction's hold period, days.</param>
+public sealed record TemplateDto(string Id, int Version, string Title, IReadOnlyList<string> AppliesTo, double CoverageProbability, IReadOnlyList<TemplateLineDto> Contributions,
+    double HoldDays);
 
 /// <summary>A template line.</summary>
 /// <param name="Name">Its name.</param>
 /// <param name="Model">Its model.</param>
 /// <param name="Settings">Its settings in words.</param>
-public sealed record TemplateLineDto(string Name, string Model, string Settings);
+/// <param name="Stage">"calibration" or "in-use".</param>
+public sealed record TemplateLineDto(string Name, string Model, string Settings, string Stage);

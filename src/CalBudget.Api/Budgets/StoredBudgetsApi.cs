@@ -71,7 +71,7 @@ public static class StoredBudgetsApi
     {
         ArgumentNullException.ThrowIfNull(catalog);
         return TypedResults.Ok(catalog.All.Select(t => new TemplateDto(t.Id, t.Version, t.Title, t.AppliesTo, t.CoverageProbability,
-            t.Contributions.Select(c => new TemplateLineDto(c.Name, ModelName(c.Model), TemplateCatalog.Describe(c))).ToArray())).ToArray());
+            t.Contributions.Select(c => new TemplateLineDto(c.Name, ModelName(c.Model), TemplateCatalog.Describe(c), StageName(c.Stage))).ToArray(), t.HoldDays)).ToArray());
     }
 
     /// <summary>GET /api/v1/budgets.</summary>
@@ -114,7 +114,7 @@ public static class StoredBudgetsApi
         ArgumentNullException.ThrowIfNull(store);
         var versions = await store.VersionsAsync(id, ct);
         return versions.Count == 0 ? NotFound(id) : TypedResults.Ok(versions.Select(v => new BudgetVersionSummaryDto(v.Number, v.State, v.Reason, v.MadeAt, v.MadeBy,
-            v.ApprovedBy, Result(v, json).ExpandedUncertainty)).ToArray());
+            v.ApprovedBy, Stages(v, json)?.Calibration.ExpandedUncertainty ?? Result(v, json).ExpandedUncertainty)).ToArray());
     }
 
     /// <summary>GET /api/v1/budgets/{id}/versions/{number}.</summary>
@@ -155,16 +155,23 @@ public static class StoredBudgetsApi
             lb.TryGetValue(n, out var y);
             double? u1 = ua.TryGetValue(n, out double p) ? p : null;
             double? u2 = ub.TryGetValue(n, out double q) ? q : null;
+            // an in-use line's u is that of the prediction's evaluation
+            u1 ??= x?.Stage == "in-use" ? Stages(a, json)?.Prediction?.Result.Contributions.FirstOrDefault(c => c.Name == n)?.StandardUncertainty : null;
+            u2 ??= y?.Stage == "in-use" ? Stages(b, json)?.Prediction?.Result.Contributions.FirstOrDefault(c => c.Name == n)?.StandardUncertainty : null;
             string change = x is null ? "added" : y is null ? "removed"
-                : u1 == u2 && (x.Input.Estimate ?? 0) == (y.Input.Estimate ?? 0) && x.Source == y.Source ? "same" : "changed";
-            return new ContributionDiffDto(n, change, [u1, u2], [x?.Input.Estimate ?? (x is null ? null : 0), y?.Input.Estimate ?? (y is null ? null : 0)], [x?.Source, y?.Source]);
+                : u1 == u2 && (x.Input.Estimate ?? 0) == (y.Input.Estimate ?? 0) && x.Source == y.Source && x.Stage == y.Stage ? "same" : "changed";
+            return new ContributionDiffDto(n, change, [u1, u2], [x?.Input.Estimate ?? (x is null ? null : 0), y?.Input.Estimate ?? (y is null ? null : 0)], [x?.Source, y?.Source],
+                [x?.Stage, y?.Stage]);
         }).ToArray();
-        return TypedResults.Ok(new BudgetDiffDto(a.Number, b.Number, rows, [ra.Estimate, rb.Estimate], [ra.ExpandedUncertainty, rb.ExpandedUncertainty]));
+        var (sa, sb) = (Stages(a, json), Stages(b, json));
+        return TypedResults.Ok(new BudgetDiffDto(a.Number, b.Number, rows, [ra.Estimate, rb.Estimate],
+            [sa?.Calibration.ExpandedUncertainty ?? ra.ExpandedUncertainty, sb?.Calibration.ExpandedUncertainty ?? rb.ExpandedUncertainty],
+            [sa?.Prediction?.Result.Estimate, sb?.Prediction?.Result.Estimate], [sa?.Prediction?.Result.ExpandedUncertainty, sb?.Prediction?.Result.ExpandedUncertainty]));
     }
 
     /// <summary>POST /api/v1/budgets.</summary>
     public static async Task<IResult> Create(BudgetBuildRequest request, HttpContext http, IDbConnectionFactory database, TimeProvider time, TemplateCatalog catalog,
-        ReadingStore readings, IOptions<JsonOptions> json, IOptions<CalBudgetOptions> options, CancellationToken ct)
+        LabScope scope, ReadingStore readings, IOptions<JsonOptions> json, IOptions<CalBudgetOptions> options, CancellationToken ct)
     {
         ArgumentNullException.ThrowIfNull(request);
         ArgumentNullException.ThrowIfNull(http);
@@ -191,14 +198,15 @@ public static class StoredBudgetsApi
 
         var now = time.GetUtcNow();
         await using var work = await UnitOfWork.BeginAsync(database, ct);
-        var built = await BuildAsync(work, request.RunId!.Value, template, policy, request.PosturePolicy, request.Overrides ?? [], request.MonteCarlo, readings, json, options, ct);
+        var built = await BuildAsync(work, null, request.RunId!.Value, template, scope, policy, request.PosturePolicy, request.Overrides ?? [], request.MonteCarlo, readings, json, options, ct);
         if (built.Problem is { } problem)
         {
             return problem;
         }
 
         long id = await BudgetStore.CreateAsync(work, request.RunId.Value, template.Id, Conventions.Actor(http.User), now);
-        await BudgetStore.AddVersionAsync(work, id, 1, "first version", template.Version, built.UploadId, built.Snapshot!, built.Result!, EngineVersion, Conventions.Actor(http.User), Conventions.Person(http.User), now);
+        await BudgetStore.AddVersionAsync(work, id, 1, "first version", template.Version, built.UploadId, built.Snapshot!, built.Result!, EngineVersion, Conventions.Actor(http.User), Conventions.Person(http.User), now,
+            built.Stages);
         var budget = (await BudgetStore.GetAsync(work, id))!;
         var dto = ToDto(budget, (await BudgetStore.VersionAsync(work, id, 1))!, json);
         await AuditTrail.RecordAsync(work, http, now, "create", "budget", $"{id}/1", null, dto.Latest);
@@ -209,7 +217,7 @@ public static class StoredBudgetsApi
 
     /// <summary>POST /api/v1/budgets/{id}/versions.</summary>
     public static async Task<IResult> Revise(long id, BudgetRevisionRequest request, HttpContext http, IDbConnectionFactory database, TimeProvider time,
-        TemplateCatalog catalog, ReadingStore readings, IOptions<JsonOptions> json, IOptions<CalBudgetOptions> options, CancellationToken ct)
+        TemplateCatalog catalog, LabScope scope, ReadingStore readings, IOptions<JsonOptions> json, IOptions<CalBudgetOptions> options, CancellationToken ct)
     {
         ArgumentNullException.ThrowIfNull(request);
         ArgumentNullException.ThrowIfNull(http);
@@ -246,7 +254,7 @@ public static class StoredBudgetsApi
 
         var policyDto = request.PosturePolicy ?? previous.PosturePolicy;
         policy ??= ReadPolicy(policyDto, errors)!;
-        var built = await BuildAsync(work, budget.RunId, template, policy, policyDto, request.Overrides ?? previous.Overrides, request.MonteCarlo ?? previous.MonteCarlo,
+        var built = await BuildAsync(work, id, budget.RunId, template, scope, policy, policyDto, request.Overrides ?? previous.Overrides, request.MonteCarlo ?? previous.MonteCarlo,
             readings, json, options, ct);
         if (built.Problem is { } problem)
         {
@@ -254,7 +262,8 @@ public static class StoredBudgetsApi
         }
 
         int number = budget.LatestVersion + 1;
-        await BudgetStore.AddVersionAsync(work, id, number, reason, template.Version, built.UploadId, built.Snapshot!, built.Result!, EngineVersion, Conventions.Actor(http.User), Conventions.Person(http.User), now);
+        await BudgetStore.AddVersionAsync(work, id, number, reason, template.Version, built.UploadId, built.Snapshot!, built.Result!, EngineVersion, Conventions.Actor(http.User), Conventions.Person(http.User), now,
+            built.Stages);
         var dto = ToDto((await BudgetStore.GetAsync(work, id))!, (await BudgetStore.VersionAsync(work, id, number))!, json);
         await AuditTrail.RecordAsync(work, http, now, "revise", "budget", $"{id}/{number}", reason, dto.Latest);
         await work.CommitAsync(ct);
@@ -324,14 +333,14 @@ public static class StoredBudgetsApi
         return (snapshot.Lines, snapshot.Evaluate, Result(version, json));
     }
 
-    private sealed record Built(string? Snapshot, string? Result, long? UploadId, ProblemHttpResult? Problem);
+    private sealed record Built(string? Snapshot, string? Result, long? UploadId, ProblemHttpResult? Problem, string? Stages = null);
 
     /// <summary>The stored snapshot: everything the version was built from.</summary>
     private sealed record BudgetSnapshot(string TemplateId, int TemplateVersion, JsonElement Run, JsonElement Reference, JsonElement Specification,
         JsonElement? Readings, JsonElement? SensitivityTest, PosturePolicyDto PosturePolicy, IReadOnlyList<OverrideDto> Overrides, MonteCarloRequest? MonteCarlo,
         IReadOnlyList<BudgetLineDto> Lines, EvaluateRequest Evaluate);
 
-    private static async Task<Built> BuildAsync(UnitOfWork work, long runId, BudgetTemplate template, PosturePolicy policy, PosturePolicyDto? policyDto,
+    private static async Task<Built> BuildAsync(UnitOfWork work, long? budgetId, long runId, BudgetTemplate template, LabScope scope, PosturePolicy policy, PosturePolicyDto? policyDto,
         IReadOnlyList<OverrideDto> overrides, MonteCarloRequest? monteCarlo, ReadingStore readings, IOptions<JsonOptions> json, IOptions<CalBudgetOptions> options, CancellationToken ct)
     {
         var o = json.Value.SerializerOptions;
@@ -353,7 +362,7 @@ public static class StoredBudgetsApi
 
         var f = run.Fields;
         var runInputs = new RunInputs(f.StartedAt, f.GateTimeSeconds, f.ComparatorResolution, Core.Orientation.Posture.FromVector(new Core.Orientation.Vector3D(f.UpX, f.UpY, f.UpZ)),
-            values);
+            values, f.Environment.TemperatureVariationKelvin, f.WarmUpMinutes, f.ComparatorSystematic);
         var rf = reference.Fields;
         var refInputs = new ReferenceInputs(rf.Identity, rf.CertificateNumber, rf.CalibrationDate, rf.FractionalOffset, rf.ExpandedUncertainty, rf.CoverageFactor,
             rf.DriftPerDay, rf.DriftUncertaintyPerDay);
@@ -367,48 +376,95 @@ public static class StoredBudgetsApi
             }
         }
 
-        var measured = test is null ? null : new MeasuredSensitivity(test.Id, new Core.Orientation.Vector3D(test.Gamma[0], test.Gamma[1], test.Gamma[2]), covariance, test.TestedAt);
-        var specInputs = new SpecificationInputs(spec.TemperatureCoefficientPerKelvin, spec.AgingPerDay, spec.AgingPerYear, spec.AccelerationSensitivityPerG, spec.Retrace, measured);
+        var measured = test is null ? null : new MeasuredSensitivity(test.Id, new Core.Orientation.Vector3D(test.Gamma[0], test.Gamma[1], test.Gamma[2]), covariance, test.TestedAt,
+            test.DegreesOfFreedom);
+        var specInputs = new SpecificationInputs(spec.TemperatureCoefficientPerKelvin, spec.AgingPerDay, spec.AgingPerYear, spec.AccelerationSensitivityPerG, spec.Retrace, measured,
+            spec.WarmUpMinutes);
+        var use = new UseConditions(template.HoldDays, policy);
         var lines = new List<BudgetLineDto>();
-        foreach (var c in template.Contributions)
-        {
-            var replaced = overrides.FirstOrDefault(x => x.Name == c.Name);
-            if (replaced is not null)
-            {
-                lines.Add(new BudgetLineDto(c.Name, "override", $"override ({replaced.Reason}); the template's {ModelName(c.Model)} model is not used",
-                    new ContributionRequest(c.Name, replaced.Estimate, null, replaced.Distribution, replaced.StandardUncertainty, replaced.ExpandedUncertainty,
-                        replaced.CoverageFactor, replaced.HalfWidth, replaced.DegreesOfFreedom, replaced.Type)));
-                continue;
-            }
-
-            try
-            {
-                if (TimebaseBudget.Build(c, runInputs, refInputs, specInputs, policy) is { } line)
-                {
-                    lines.Add(new BudgetLineDto(line.Name, ModelName(line.Model), line.Source, ToRequest(line)));
-                }
-            }
-            catch (MetrologyException ex)
-            {
-                return Refused(ex.Parameter.StartsWith("posturePolicy", StringComparison.Ordinal) ? ex.Parameter : $"contributions.{c.Name}", ex.Message);
-            }
-        }
-
         foreach (var x in overrides.Where(x => template.Contributions.All(c => c.Name != x.Name)))
         {
             return Refused($"overrides.{x.Name}", $"The template has no contribution named '{x.Name}'.");
         }
 
+        // the calibration lines first: the aging of the in-use prediction is fitted with this calibration result as its newest point
+        foreach (var stage in new[] { BudgetStage.Calibration, BudgetStage.InUse })
+        {
+            if (stage == BudgetStage.InUse)
+            {
+                if (template.Contributions.All(c => c.Stage != BudgetStage.InUse))
+                {
+                    break;
+                }
+
+                var calibration = Evaluate(lines, template, instrument.Fields.AssetNumber, null, options, ct);
+                if (calibration.Problem is { } failed)
+                {
+                    return new Built(null, null, null, failed);
+                }
+
+                // an as-left run follows an adjustment: the drift starts again from it
+                var history = await InstrumentHistory.CertificatesAsync(work, instrument.Id, f.StartedAt, budgetId, o);
+                history.Add(new HistoryPoint(f.StartedAt, calibration.Response!.Estimate, calibration.Response.ExpandedUncertainty, calibration.Response.CoverageFactor,
+                    f.Condition == "as-left"));
+                specInputs = specInputs with { AgingFit = InstrumentHistory.ForBudget(InstrumentHistory.SinceLastAdjustment(history)) };
+            }
+
+            foreach (var c in template.Contributions.Where(c => c.Stage == stage))
+            {
+                var replaced = overrides.FirstOrDefault(x => x.Name == c.Name);
+                if (replaced is not null)
+                {
+                    lines.Add(new BudgetLineDto(c.Name, "override", $"override ({replaced.Reason}); the template's {ModelName(c.Model)} model is not used",
+                        new ContributionRequest(c.Name, replaced.Estimate, null, replaced.Distribution, replaced.StandardUncertainty, replaced.ExpandedUncertainty,
+                            replaced.CoverageFactor, replaced.HalfWidth, replaced.DegreesOfFreedom, replaced.Type), StageName(c.Stage)));
+                    continue;
+                }
+
+                try
+                {
+                    if (TimebaseBudget.Build(c, runInputs, refInputs, specInputs, use) is { } line)
+                    {
+                        lines.Add(new BudgetLineDto(line.Name, ModelName(line.Model), line.Source, ToRequest(line), StageName(line.Stage)));
+                    }
+                }
+                catch (MetrologyException ex)
+                {
+                    return Refused(ex.Parameter.StartsWith("posturePolicy", StringComparison.Ordinal) || ex.Parameter.StartsWith("run.", StringComparison.Ordinal)
+                        ? ex.Parameter : $"contributions.{c.Name}", ex.Message);
+                }
+            }
+        }
+
         // a Monte Carlo request without a seed gets one now, kept in the snapshot, so that the version can be re-evaluated to the last digit
         var mc = monteCarlo is null ? null : monteCarlo with { Seed = monteCarlo.Seed ?? BitConverter.ToUInt64(System.Security.Cryptography.RandomNumberGenerator.GetBytes(8)) };
+        var calibrationLines = lines.Where(l => l.Stage != "in-use").ToList();
         var evaluate = new EvaluateRequest($"fractional frequency offset of the timebase of {instrument.Fields.AssetNumber}", template.CoverageProbability,
-            lines.Select(l => l.Input).ToArray(), null, mc);
+            calibrationLines.Select(l => l.Input).ToArray(), null, mc);
         var (result, problem) = BudgetsApi.Compute(evaluate, options.Value.MonteCarloMaxTrials, ct);
         if (problem is not null)
         {
             return new Built(null, null, null, problem);
         }
 
+        PredictionDto? prediction = null;
+        if (lines.Count > calibrationLines.Count)
+        {
+            var predict = new EvaluateRequest($"fractional frequency offset of the timebase of {instrument.Fields.AssetNumber} predicted to the end of {template.HoldDays:G6} days of use",
+                template.CoverageProbability, lines.Select(l => l.Input).ToArray(), null, mc);
+            var (predicted, predictProblem) = BudgetsApi.Compute(predict, options.Value.MonteCarloMaxTrials, ct);
+            if (predictProblem is not null)
+            {
+                return new Built(null, null, null, predictProblem);
+            }
+
+            var until = f.StartedAt.UtcDateTime.Date.AddDays(Math.Ceiling(template.HoldDays));
+            var assumptions = PredictionWording.Assumptions(template, lines, policy, f, spec, specInputs.AgingFit, new DateTimeOffset(until, TimeSpan.Zero));
+            prediction = new PredictionDto(template.HoldDays, new DateTimeOffset(until, TimeSpan.Zero), assumptions, PredictionWording.Statement(predicted!, assumptions),
+                lines.Where(l => l.Stage == "in-use").Select(l => l.Name).ToArray(), predict, predicted!);
+        }
+
+        var stated = StateCalibrationResult(result!, scope, instrument.Fields.OscillatorKind, instrument.Fields.NominalFrequencyHz);
         var snapshot = new BudgetSnapshot(template.Id, template.Version,
             JsonSerializer.SerializeToElement(Calibrations.CalibrationsApi.ToDto(run), o),
             JsonSerializer.SerializeToElement(new { rf.Identity, rf.CertificateNumber, rf.IssuingLab, rf.CalibrationDate, rf.FractionalOffset, rf.ExpandedUncertainty,
@@ -417,7 +473,34 @@ public static class StoredBudgetsApi
             upload is null ? null : JsonSerializer.SerializeToElement(new { uploadId = upload.Id, upload.Sha256, upload.Count, upload.Quantity }, o),
             test is null ? null : JsonSerializer.SerializeToElement(test, o),
             policyDto ?? new PosturePolicyDto("as-calibrated", null, null), overrides, mc, lines, evaluate);
-        return new Built(JsonSerializer.Serialize(snapshot, o), JsonSerializer.Serialize(result, o), upload?.Id, null);
+        return new Built(JsonSerializer.Serialize(snapshot, o), JsonSerializer.Serialize(result, o), upload?.Id, null,
+            JsonSerializer.Serialize(new BudgetStagesDto(stated, prediction), o));
+    }
+
+    private static (EvaluateResponse? Response, ProblemHttpResult? Problem) Evaluate(IEnumerable<BudgetLineDto> lines, BudgetTemplate template, string asset,
+        MonteCarloRequest? mc, IOptions<CalBudgetOptions> options, CancellationToken ct) =>
+        BudgetsApi.Compute(new EvaluateRequest($"fractional frequency offset of the timebase of {asset}", template.CoverageProbability,
+            lines.Select(l => l.Input).ToArray(), null, mc), options.Value.MonteCarloMaxTrials, ct);
+
+    /// <summary>
+    /// The calibration result as stated: U never below the CMC that covers the result (ILAC-P14), k as the budget's, u = U / k;
+    /// the Monte Carlo interval governs when the budget's Monte Carlo run did not validate the GUM result (JCGM 101 clause 8).
+    /// </summary>
+    public static CalibrationResultDto StateCalibrationResult(EvaluateResponse result, LabScope scope, string kind, double nominalHz)
+    {
+        ArgumentNullException.ThrowIfNull(result);
+        ArgumentNullException.ThrowIfNull(scope);
+        var cmc = scope.Covering(kind, nominalHz, result.Estimate);
+        double u = result.ExpandedUncertainty;
+        bool raised = cmc is not null && cmc.ExpandedUncertainty > u;
+        double stated = raised ? cmc!.ExpandedUncertainty : u;
+        bool monteCarlo = result.MonteCarlo is { GumValidated: false };
+        double[] interval = monteCarlo && !raised ? [.. result.MonteCarlo!.CoverageInterval] : [result.Estimate - stated, result.Estimate + stated];
+        string words = cmc is null
+            ? $"No capability of the laboratory's scope ({scope.Title}) covers a {kind} timebase at {nominalHz:G6} Hz with this offset: the result is outside the scope."
+            : cmc.Words + (raised ? " The budget's U is below this CMC, so the CMC is stated." : "");
+        return new CalibrationResultDto(result.Estimate, stated / result.CoverageFactor, stated, result.CoverageFactor, result.CoverageProbability,
+            result.EffectiveDegreesOfFreedom, u, cmc is not null, words, cmc?.ExpandedUncertainty, raised, raised ? "CMC" : monteCarlo ? "Monte Carlo" : "GUM", interval);
     }
 
     private static Built Refused(string field, string message) =>
@@ -430,6 +513,7 @@ public static class StoredBudgetsApi
             DistributionKind.Rectangular => "rectangular",
             DistributionKind.Triangular => "triangular",
             DistributionKind.UShaped => "u-shaped",
+            DistributionKind.StudentT => "student-t",
             _ => "normal",
         },
         l.StandardUncertainty, null, null, l.HalfWidth, double.IsPositiveInfinity(l.DegreesOfFreedom) ? null : l.DegreesOfFreedom, l.Type.ToString());
@@ -479,6 +563,16 @@ public static class StoredBudgetsApi
 
     private static string ModelName(ContributionModel model) => TemplateCatalog.ModelNames.First(m => m.Value == model).Key;
 
+    private static string StageName(BudgetStage stage) => TemplateCatalog.StageNames.First(m => m.Value == stage).Key;
+
+    /// <summary>The version's two results as stored, or null for a version made before they were kept apart.</summary>
+    public static BudgetStagesDto? Stages(BudgetVersion v, IOptions<JsonOptions> json)
+    {
+        ArgumentNullException.ThrowIfNull(v);
+        ArgumentNullException.ThrowIfNull(json);
+        return v.Stages is null ? null : JsonSerializer.Deserialize<BudgetStagesDto>(v.Stages, json.Value.SerializerOptions);
+    }
+
     private static ProblemHttpResult NotFound(long id) => Problems.Status(StatusCodes.Status404NotFound, "No such budget.", $"No budget has the id {id}.");
 
     private static BudgetSnapshot Snapshot(BudgetVersion v, IOptions<JsonOptions> json) => JsonSerializer.Deserialize<BudgetSnapshot>(v.Snapshot, json.Value.SerializerOptions)!;
@@ -492,5 +586,6 @@ public static class StoredBudgetsApi
 
     private static BudgetVersionDto ToVersionDto(Budget b, BudgetVersion v, IOptions<JsonOptions> json) =>
         new(v.BudgetId, v.Number, v.State, v.Reason, b.TemplateId, v.TemplateVersion, v.EngineVersion, v.MadeAt, v.MadeBy, v.ApprovedAt, v.ApprovedBy,
-            v.SignatureMeaning, v.SupersededAt, Lines(v, json), Result(v, json), JsonDocument.Parse(v.Snapshot).RootElement.Clone());
+            v.SignatureMeaning, v.SupersededAt, Lines(v, json), Result(v, json), JsonDocument.Parse(v.Snapshot).RootElement.Clone(), Stages(v, json)?.Calibration,
+            Stages(v, json)?.Prediction);
 }

@@ -26,9 +26,10 @@ public sealed class TemplateException(string file, string field, string message)
 /// <param name="Title">What it is for.</param>
 /// <param name="AppliesTo">Oscillator kinds it may be used for.</param>
 /// <param name="CoverageProbability">p.</param>
-/// <param name="Contributions">Its lines.</param>
+/// <param name="Contributions">Its lines, each with its stage.</param>
+/// <param name="HoldDays">The in-use prediction's hold period after calibration, days (required when any line is in-use).</param>
 public sealed record BudgetTemplate(string Id, int Version, string Title, IReadOnlyList<string> AppliesTo, double CoverageProbability,
-    IReadOnlyList<TemplateContribution> Contributions);
+    IReadOnlyList<TemplateContribution> Contributions, double HoldDays = 0);
 
 /// <summary>The lab's budget templates, read once at start from <see cref="Hosting.CalBudgetOptions.TemplatesDirectory"/>.</summary>
 public sealed partial class TemplateCatalog
@@ -45,7 +46,18 @@ public sealed partial class TemplateCatalog
         ["retrace"] = ContributionModel.Retrace,
         ["supply"] = ContributionModel.Supply,
         ["other"] = ContributionModel.Other,
+        ["warm-up"] = ContributionModel.WarmUp,
     };
+
+    /// <summary>Stage names as templates spell them.</summary>
+    public static IReadOnlyDictionary<string, BudgetStage> StageNames { get; } = new Dictionary<string, BudgetStage>(StringComparer.Ordinal)
+    {
+        ["calibration"] = BudgetStage.Calibration,
+        ["in-use"] = BudgetStage.InUse,
+    };
+
+    /// <summary>The lab's scope beside the templates (<see cref="LabScope"/>), not a template.</summary>
+    public const string ScopeFile = "scope.json";
 
     private readonly Dictionary<string, BudgetTemplate> _templates;
 
@@ -66,7 +78,7 @@ public sealed partial class TemplateCatalog
         }
 
         var templates = new Dictionary<string, BudgetTemplate>(StringComparer.Ordinal);
-        foreach (string path in Directory.EnumerateFiles(directory, "*.json").Order(StringComparer.Ordinal))
+        foreach (string path in Directory.EnumerateFiles(directory, "*.json").Where(p => Path.GetFileName(p) != ScopeFile).Order(StringComparer.Ordinal))
         {
             var template = Read(Path.GetFileName(path), File.ReadAllBytes(path));
             templates[template.Id] = template;
@@ -102,7 +114,7 @@ public sealed partial class TemplateCatalog
             throw new TemplateException(file, "$", "A template is a JSON object.");
         }
 
-        Known(file, "", root, "id", "version", "title", "appliesTo", "coverageProbability", "contributions");
+        Known(file, "", root, "id", "version", "title", "appliesTo", "coverageProbability", "holdDays", "contributions");
         string id = Text(file, root, "id");
         if (!IdPattern().IsMatch(id) || id + ".json" != file)
         {
@@ -146,22 +158,66 @@ public sealed partial class TemplateCatalog
                 throw new TemplateException(file, $"{at}.model", $"Unknown model '{modelName}': one of {string.Join(", ", ModelNames.Keys)}.");
             }
 
-            contributions.Add(model switch
+            var allowed = BudgetStages.Allowed(model);
+            var stage = allowed[0];
+            if (c.TryGetProperty("stage", out var st))
             {
-                ContributionModel.Temperature => Settings(file, c, at, ["bandKelvin"]) is var s ? new TemplateContribution(name, model, BandKelvin: s[0]) : null!,
-                ContributionModel.Aging => Settings(file, c, at, ["holdDays"]) is var s ? new TemplateContribution(name, model, HoldDays: s[0]) : null!,
+                if (st.ValueKind != JsonValueKind.String || !StageNames.TryGetValue(st.GetString()!, out stage))
+                {
+                    throw new TemplateException(file, $"{at}.stage", "One of calibration, in-use.");
+                }
+
+                if (!allowed.Contains(stage))
+                {
+                    throw new TemplateException(file, $"{at}.stage", $"A {modelName} line cannot be in the {st.GetString()} stage: {BudgetStages.Why(model)}.");
+                }
+            }
+            else if (model == ContributionModel.Temperature)
+            {
+                stage = c.TryGetProperty("bandKelvin", out _) ? BudgetStage.InUse : BudgetStage.Calibration;
+            }
+
+            var line = model switch
+            {
+                ContributionModel.Temperature when stage == BudgetStage.InUse => Settings(file, c, at, ["bandKelvin"]) is var s ? new TemplateContribution(name, model, BandKelvin: s[0]) : null!,
                 ContributionModel.Supply => Settings(file, c, at, ["halfWidth"]) is var s ? new TemplateContribution(name, model, HalfWidth: s[0]) : null!,
+                ContributionModel.WarmUp => WarmUp(file, c, at, name),
                 ContributionModel.Other => Other(file, c, at, name),
                 _ => Settings(file, c, at, []) is not null ? new TemplateContribution(name, model) : null!,
-            });
+            };
+            contributions.Add(line with { Stage = stage });
         }
 
-        return new BudgetTemplate(id, version, title, applies, p, contributions);
+        double hold = Number(file, root, "holdDays", "holdDays") is double h ? (h >= 0 ? h : throw new TemplateException(file, "holdDays", "A number of days >= 0."))
+            : contributions.Any(x => x.Stage == BudgetStage.InUse) ? throw new TemplateException(file, "holdDays", "Required with in-use lines: the prediction's hold period after calibration, days.")
+            : 0;
+        return new BudgetTemplate(id, version, title, applies, p, contributions, hold);
+    }
+
+    private static TemplateContribution WarmUp(string file, JsonElement c, string at, string name)
+    {
+        Known(file, at + ".", c, "name", "model", "stage", "whenShort", "halfWidth");
+        string rule = Text(file, c, "whenShort", at);
+        if (rule == "refuse")
+        {
+            return c.TryGetProperty("halfWidth", out _)
+                ? throw new TemplateException(file, $"{at}.halfWidth", "Only with whenShort \"line\".")
+                : new TemplateContribution(name, ContributionModel.WarmUp, WhenShort: WarmUpRule.Refuse);
+        }
+
+        if (rule != "line")
+        {
+            throw new TemplateException(file, $"{at}.whenShort", "One of refuse (a 422 when the warm-up was short or not recorded), line (a stated term).");
+        }
+
+        double value = Number(file, c, "halfWidth", $"{at}.halfWidth") is double x and >= 0 ? x
+            : throw new TemplateException(file, $"{at}.halfWidth", "Required for whenShort \"line\": a number >= 0.");
+        return new TemplateContribution(name, ContributionModel.WarmUp, HalfWidth: value, WhenShort: WarmUpRule.Line);
     }
 
     private static TemplateContribution Other(string file, JsonElement c, string at, string name)
     {
-        Known(file, at + ".", c, "name", "model", "distribution", "halfWidth", "standardUncertainty");
+        Known(file, at + ".", c, "name", "model", "stage", "distribution", "halfWidth", "standardUncertainty");
         string distribution = Text(file, c, "distribution", at);
         var kind = distribution switch
         {
@@ -181,7 +237,7 @@ public sealed partial class TemplateCatalog
 
     private static double[] Settings(string file, JsonElement c, string at, string[] required)
     {
-        Known(file, at + ".", c, ["name", "model", .. required]);
+        Known(file, at + ".", c, ["name", "model", "stage", .. required]);
         return required.Select(f => Number(file, c, f, $"{at}.{f}") is double x and >= 0
             ? x : throw new TemplateException(file, $"{at}.{f}", "Required: a number >= 0.")).ToArray();
     }
@@ -211,12 +267,13 @@ public sealed partial class TemplateCatalog
     private static partial Regex IdPattern();
 
     /// <summary>The template's line as text, for the list endpoint.</summary>
-    public static string Describe(TemplateContribution c) => c.Model switch
+    public static string Describe(TemplateContribution c) => (c.Stage == BudgetStage.Calibration ? "calibration result" : "in-use prediction") + c.Model switch
     {
-        ContributionModel.Temperature => string.Create(CultureInfo.InvariantCulture, $"band {c.BandKelvin} K"),
-        ContributionModel.Aging => string.Create(CultureInfo.InvariantCulture, $"holds {c.HoldDays} days"),
-        ContributionModel.Supply => string.Create(CultureInfo.InvariantCulture, $"half-width {c.HalfWidth}"),
-        ContributionModel.Other => string.Create(CultureInfo.InvariantCulture, $"{c.Distribution}, {(c.Distribution == DistributionKind.Normal ? $"u {c.StandardUncertainty}" : $"half-width {c.HalfWidth}")}"),
+        ContributionModel.Temperature when c.Stage == BudgetStage.InUse => string.Create(CultureInfo.InvariantCulture, $"; band {c.BandKelvin} K"),
+        ContributionModel.Temperature => "; the run's recorded variation",
+        ContributionModel.WarmUp => c.WhenShort == WarmUpRule.Line ? string.Create(CultureInfo.InvariantCulture, $"; when short, half-width {c.HalfWidth}") : "; when short, refused",
+        ContributionModel.Supply => string.Create(CultureInfo.InvariantCulture, $"; half-width {c.HalfWidth}"),
+        ContributionModel.Other => string.Create(CultureInfo.InvariantCulture, $"; {c.Distribution}, {(c.Distribution == DistributionKind.Normal ? $"u {c.StandardUncertainty}" : $"half-width {c.HalfWidth}")}"),
         _ => "",
     };
 }

@@ -13,13 +13,15 @@ namespace CalBudget.Api.Calibrations;
 /// <param name="StartedAt">Start of the run (RFC 3339).</param>
 /// <param name="EndedAt">End of the run (RFC 3339), after the start, when known.</param>
 /// <param name="Notes">Free text, up to 4000 characters.</param>
+/// <param name="WarmUpMinutes">How long the instrument had been powered when the run started, minutes (&gt;= 0), when recorded; a template's warm-up line compares it with the specified warm-up.</param>
 public sealed record CalibrationRunRequest(long? InstrumentId, long? ReferenceId, ComparatorDto? Comparator, double? GateTimeSeconds, RunPostureDto? Posture,
-    EnvironmentDto? Environment, string? Condition, DateTimeOffset? StartedAt, DateTimeOffset? EndedAt, string? Notes);
+    EnvironmentDto? Environment, string? Condition, DateTimeOffset? StartedAt, DateTimeOffset? EndedAt, string? Notes, double? WarmUpMinutes = null);
 
 /// <summary>The comparator.</summary>
 /// <param name="Name">What it is, for example "lab counter C-3".</param>
-/// <param name="Resolution">Its resolution at the run's gate time, as a fractional frequency (dimensionless, &gt; 0).</param>
-public sealed record ComparatorDto(string? Name, double? Resolution);
+/// <param name="Resolution">Its quantization step at the run's gate time, as a fractional frequency (dimensionless, &gt; 0): the last-digit step of one reading.</param>
+/// <param name="SystematicError">Its stated systematic error (trigger level, interpolator nonlinearity) as a fractional half-width (&gt;= 0), when specified; random trigger and interpolator noise is in the readings' scatter and is not given here.</param>
+public sealed record ComparatorDto(string? Name, double? Resolution, double? SystematicError = null);
 
 /// <summary>The posture: the name of one of the instrument's postures, or an explicit up vector (exactly one of the two).</summary>
 /// <param name="Name">One of the instrument's posture names.</param>
@@ -69,10 +71,11 @@ public sealed record RunReadingsDto(long UploadId, long Count, string Sha256, lo
 /// <param name="CreatedBy">Recorded by.</param>
 /// <param name="UpdatedAt">Last changed at.</param>
 /// <param name="UpdatedBy">Last changed by.</param>
+/// <param name="WarmUpMinutes">Power-on time before the run, minutes, when recorded.</param>
 public sealed record CalibrationRunDto(long Id, long InstrumentId, string InstrumentAssetNumber, long ReferenceId, string ReferenceIdentity,
     ComparatorDto Comparator, double GateTimeSeconds, StoredRunPostureDto Posture, EnvironmentDto Environment, string Condition, string Operator,
     DateTimeOffset StartedAt, DateTimeOffset? EndedAt, string Notes, RunReadingsDto? Readings, string Status, DateTimeOffset? RetiredAt,
-    string? RetiredReason, long Version, DateTimeOffset CreatedAt, string CreatedBy, DateTimeOffset UpdatedAt, string UpdatedBy);
+    string? RetiredReason, long Version, DateTimeOffset CreatedAt, string CreatedBy, DateTimeOffset UpdatedAt, string UpdatedBy, double? WarmUpMinutes);
 
 /// <summary>An upload of readings as stored.</summary>
 /// <param name="Id">Its id.</param>

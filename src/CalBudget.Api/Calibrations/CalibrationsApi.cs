@@ -184,11 +184,12 @@ public static class CalibrationsApi
         var f = run.Fields;
         var e = f.Environment;
         return new CalibrationRunDto(run.Id, f.InstrumentId, run.InstrumentAssetNumber, f.ReferenceId, run.ReferenceIdentity,
-            new ComparatorDto(f.Comparator, f.ComparatorResolution), f.GateTimeSeconds, new StoredRunPostureDto(f.PostureName, [f.UpX, f.UpY, f.UpZ]),
+            new ComparatorDto(f.Comparator, f.ComparatorResolution, f.ComparatorSystematic), f.GateTimeSeconds, new StoredRunPostureDto(f.PostureName, [f.UpX, f.UpY, f.UpZ]),
             new EnvironmentDto(e.TemperatureCelsius, e.TemperatureVariationKelvin, e.RelativeHumidityPercent, e.Supply), f.Condition, run.Operator,
             f.StartedAt, f.EndedAt, f.Notes,
             run.Readings is { } r ? new RunReadingsDto(r.UploadId, r.Count, r.Sha256, r.Uploads) : null,
-            run.RetiredAt is null ? "active" : "retired", run.RetiredAt, run.RetiredReason, run.Version, run.CreatedAt, run.CreatedBy, run.UpdatedAt, run.UpdatedBy);
+            run.RetiredAt is null ? "active" : "retired", run.RetiredAt, run.RetiredReason, run.Version, run.CreatedAt, run.CreatedBy, run.UpdatedAt, run.UpdatedBy,
+            f.WarmUpMinutes);
     }
 
     private static ProblemHttpResult NotFound(long id) =>
@@ -196,7 +197,8 @@ public static class CalibrationsApi
 
     /// <summary>A request read and checked on its own, before the instrument and reference are looked up.</summary>
     private sealed record Draft(long InstrumentId, long ReferenceId, string Comparator, double Resolution, double GateTime, string? PostureName,
-        double[]? Up, RunEnvironment Environment, string Condition, DateTimeOffset StartedAt, DateTimeOffset? EndedAt, string Notes);
+        double[]? Up, RunEnvironment Environment, string Condition, DateTimeOffset StartedAt, DateTimeOffset? EndedAt, string Notes, double? WarmUpMinutes,
+        double? ComparatorSystematic);
 
     private static Draft? Read(CalibrationRunRequest? r, FieldErrors errors)
     {
@@ -231,7 +233,10 @@ public static class CalibrationsApi
             }
 
             resolution = errors.Positive(r.Comparator.Resolution, "comparator.resolution");
+            errors.NonNegative(r.Comparator.SystematicError, "comparator.systematicError");
         }
+
+        errors.NonNegative(r.WarmUpMinutes, "warmUpMinutes");
 
         if (r.GateTimeSeconds is null)
         {
@@ -299,7 +304,7 @@ public static class CalibrationsApi
 
         return new Draft(r.InstrumentId!.Value, r.ReferenceId!.Value, comparator, resolution.Value, gate.Value, postureName, up,
             new RunEnvironment(env.TemperatureCelsius, env.TemperatureVariationKelvin, env.RelativeHumidityPercent, supply), r.Condition!,
-            r.StartedAt!.Value.ToUniversalTime(), r.EndedAt?.ToUniversalTime(), notes);
+            r.StartedAt!.Value.ToUniversalTime(), r.EndedAt?.ToUniversalTime(), notes, r.WarmUpMinutes, r.Comparator!.SystematicError);
     }
 
     private static async Task<(CalibrationRunFields? Fields, ProblemHttpResult? Refusal)> ResolveAsync(UnitOfWork work, Draft d, DateTimeOffset now,
@@ -351,6 +356,6 @@ public static class CalibrationsApi
         }
 
         return (new CalibrationRunFields(d.InstrumentId, d.ReferenceId, d.Comparator, d.Resolution, d.GateTime, d.PostureName, up[0], up[1], up[2],
-            d.Environment, d.Condition, d.StartedAt, d.EndedAt, d.Notes), null);
+            d.Environment, d.Condition, d.StartedAt, d.EndedAt, d.Notes, d.WarmUpMinutes, d.ComparatorSystematic), null);
     }
 }

@@ -20,7 +20,17 @@ namespace CalBudget.Api.Certificates;
 public sealed record CertificateFacts(string Number, DateTimeOffset IssuedAt, string IssuedBy, string ApproverPerson, string MakerPerson, CertificateWording Wording, CertificateIssueRequest Settings,
     Instrument Instrument, TimebaseSpecificationDto Specification, CalibrationRun Run, ReferenceStandard Reference, double[] Readings,
     Data.Budgets.BudgetVersion Version, IReadOnlyList<BudgetLineDto> Lines, EvaluateRequest Evaluate, EvaluateResponse Result, StatedResult? AsLeft,
-    Data.Instruments.SensitivityTest? SensitivityTest, IReadOnlyList<(DateTimeOffset Date, double Offset, double U)> History, string? Replaces, string? AmendmentNote);
+    Data.Instruments.SensitivityTest? SensitivityTest, IReadOnlyList<HistoryPoint> History, string? Replaces, string? AmendmentNote)
+{
+    /// <summary>The as-found calibration result as the version states it (CMC floor, governing evaluation); from <see cref="Result"/> when not given.</summary>
+    public StatedResult? AsFound { get; init; }
+
+    /// <summary>The stated calibration result's scope and CMC, when the version keeps them.</summary>
+    public CalibrationResultDto? Calibration { get; init; }
+
+    /// <summary>The in-use prediction of the stated result's version, when it has one.</summary>
+    public PredictionDto? Prediction { get; init; }
+}
 
 /// <summary>What composing gives: the worded content and the numbers stored beside it.</summary>
 public sealed record ComposedCertificate(CertificateContent Content, StatedResult Result, StoredDecision? Decision, StoredRecall? Recall);
@@ -35,11 +45,12 @@ public static class CertificateComposer
     private static readonly CultureInfo C = CultureInfo.InvariantCulture;
 
     /// <summary>Composes; a <see cref="MetrologyException"/> names the request field that cannot be met.</summary>
-    public static ComposedCertificate Compose(CertificateFacts f, long maxTrials)
+    public static ComposedCertificate Compose(CertificateFacts f, long maxTrials, double minimumRatio = 4)
     {
         ArgumentNullException.ThrowIfNull(f);
         var r = f.Result;
-        var asFound = new StatedResult(f.Run.Fields.StartedAt, r.Estimate, r.CombinedStandardUncertainty, r.ExpandedUncertainty, r.CoverageFactor, r.CoverageProbability);
+        var asFound = f.AsFound ?? new StatedResult(f.Run.Fields.StartedAt, r.Estimate, r.CombinedStandardUncertainty, r.ExpandedUncertainty, r.CoverageFactor, r.CoverageProbability,
+            r.EffectiveDegreesOfFreedom);
         var stated = f.AsLeft ?? asFound;
         var spec = f.Specification;
         ToleranceLimits? limits = f.Settings.Tolerance is { } t ? ToleranceLimits.Create(t.Lower, t.Upper)
@@ -61,27 +72,45 @@ public static class CertificateComposer
                 "non-binary" => DecisionRule.NonBinary,
                 _ => throw new MetrologyException("decisionRule.kind", "One of simple-acceptance, guard-band, non-binary."),
             };
-            var d = ConformityAssessment.Decide(stated.Estimate, stated.StandardUncertainty, stated.ExpandedUncertainty, limits, rule);
+            // p_c from the distribution the stated interval comes from: t with nu_eff (normal when infinite), or the Monte Carlo
+            // samples when the GUM result was not validated
+            double? nu = stated.EffectiveDegreesOfFreedom;
+            var d = ConformityAssessment.Decide(stated.Estimate, stated.StandardUncertainty, stated.ExpandedUncertainty, limits, rule, nu);
+            if (ruleRequest.Kind == "simple-acceptance" && d.TestUncertaintyRatio is { } low && low < minimumRatio && string.IsNullOrWhiteSpace(ruleRequest.LowRatioReason))
+            {
+                throw new MetrologyException("decisionRule.lowRatioReason",
+                    $"Simple acceptance with a test uncertainty ratio of {low.ToString("0.0", C)} : 1, below the laboratory's minimum of {minimumRatio.ToString("0.#", C)} : 1, needs a stated reason (or a guard band).") { NotComputable = true };
+            }
+
             double? mcConformity = MonteCarloConformity(f, limits, maxTrials);
+            string governs = stated.Governs == "Monte Carlo" && mcConformity is not null ? "Monte Carlo" : nu is double v && double.IsFinite(v) ? "t" : "normal";
+            double pc = governs == "Monte Carlo" ? mcConformity!.Value : d.ProbabilityOfConformity;
             decision = new StoredDecision(ruleRequest.Kind!, limits.Lower, limits.Upper, ConformityAssessment.Words(d.Outcome), d.GuardBand, d.AcceptanceLower,
-                d.AcceptanceUpper, d.ProbabilityOfConformity, mcConformity, d.TestUncertaintyRatio);
+                d.AcceptanceUpper, d.ProbabilityOfConformity, mcConformity, d.TestUncertaintyRatio, governs, ruleRequest.LowRatioReason);
+            string from = governs switch
+            {
+                "Monte Carlo" => "from the budget's Monte Carlo distribution (JCGM 101), which governs because the GUM result was not validated",
+                "t" => $"from the t-distribution with {DegreesWords(nu)} effective degrees of freedom that the stated interval comes from (JCGM 106:2012 with JCGM 100 G.3)",
+                _ => "for a normal result (JCGM 106:2012)",
+            };
             conformity = [RuleWords(ruleRequest.Kind!, d.GuardBand, stated.ExpandedUncertainty, ruleRequest.GuardBandMultiple ?? 1),
-                $"Tolerance: {ToleranceWords(limits)}{(f.Settings.Tolerance is null ? $" (the instrument's specification{(spec.Tolerance?.Conditions is { Length: > 0 } cond ? ", " + cond : "")})" : "")}.",
-                $"Outcome: {ConformityAssessment.Words(d.Outcome).ToUpperInvariant()}. Probability of conformity p_c = {d.ProbabilityOfConformity.ToString("0.0000", C)} " +
-                $"for a normal result (JCGM 106:2012){(mcConformity is { } m ? $"; {m.ToString("0.0000", C)} from the budget's Monte Carlo distribution (JCGM 101)" : "")}." +
-                (d.TestUncertaintyRatio is { } tur ? $" Test uncertainty ratio (T_U - T_L) / 2U = {tur.ToString("0.0", C)} : 1." : "")];
+                $"Tolerance: {ToleranceWords(limits)}{(f.Settings.Tolerance is null ? $" (the instrument's specification{(spec.Tolerance?.Conditions is { Length: > 0 } cond ? ", " + cond : "")})" : "")}. " +
+                "The decision is made on the calibration result and its expanded uncertainty; aging and the conditions of use are not added to it.",
+                $"Outcome: {ConformityAssessment.Words(d.Outcome).ToUpperInvariant()}. Probability of conformity p_c = {Probability(pc)} {from}" +
+                (governs != "Monte Carlo" && mcConformity is { } m ? $"; {Probability(m)} from the budget's Monte Carlo distribution" : "") + "." +
+                (d.TestUncertaintyRatio is { } tur ? $" Test uncertainty ratio (T_U - T_L) / 2U = {tur.ToString("0.0", C)} : 1." : "") +
+                (ruleRequest.LowRatioReason is { Length: > 0 } why ? $" Simple acceptance below the laboratory's minimum ratio of {minimumRatio.ToString("0.#", C)} : 1 was chosen because: {why}" : "")];
         }
 
         StoredRecall? recall = null;
         List<string>? recallWords = null;
-        var history = f.History.Append((stated.CalibratedAt, stated.Estimate, stated.ExpandedUncertainty)).OrderBy(h => h.Item1).ToArray();
-        var origin = history[0].Item1;
+        // the stated result joins the history; an adjustment at this calibration starts the fit afresh from the as-left result
+        var all = f.History.Append(new HistoryPoint(stated.CalibratedAt, stated.Estimate, stated.ExpandedUncertainty, stated.CoverageFactor, f.AsLeft is not null))
+            .OrderBy(h => h.Date).ToArray();
+        var history = InstrumentHistory.SinceLastAdjustment(all);
+        var origin = history[0].Date;
         double Day(DateTimeOffset d) => (d - origin).TotalDays;
-        AgingResult? fit = null;
-        if (history.Length >= 3)
-        {
-            fit = AgingFit.Fit(history.Select(h => new AgingPoint(Day(h.Item1), h.Item2, h.Item3 / 2)).ToArray(), AgingModel.Linear);
-        }
+        AgingResult? fit = InstrumentHistory.Fit(history);
 
         if (f.Settings.RecallInterval is { } recallRequest)
         {
@@ -92,10 +121,11 @@ public static class CertificateComposer
 
             if (fit is null)
             {
-                throw new MetrologyException("recallInterval", $"A recall interval needs an aging fit: at least three dated results (this one and priorResults or earlier certificates); there are {history.Length}.") { NotComputable = true };
+                throw new MetrologyException("recallInterval", $"A recall interval needs an aging fit: at least three dated results since the last adjustment (this one and priorResults or earlier certificates); there are {history.Length}.") { NotComputable = true };
             }
 
-            var found = RecallInterval.Find(fit, Day(stated.CalibratedAt), stated.Estimate, stated.StandardUncertainty, stated.CoverageFactor, limits, recallRequest.LongestDays ?? 730);
+            var found = RecallInterval.Find(fit, Day(stated.CalibratedAt), stated.Estimate, stated.StandardUncertainty, stated.CoverageFactor, limits, recallRequest.LongestDays ?? 730,
+                fit.ResidualStandardDeviation);
             DateTimeOffset? date = found.Days is { } days ? stated.CalibratedAt.UtcDateTime.Date.AddDays(days) : null;
             recall = new StoredRecall(found.Days, date is null ? null : new DateTimeOffset(date.Value.DateTime, TimeSpan.Zero), found.LongestDays, found.Method);
             recallWords = [found.Days is { } dd
@@ -117,11 +147,17 @@ public static class CertificateComposer
             Posture = PostureWords(f),
             Results = ResultLines(f, asFound),
             UncertaintyStatement = $"The expanded uncertainty U is the combined standard uncertainty multiplied by the coverage factor k = {stated.CoverageFactor.ToString("0.00", C)}, " +
-                $"which for a t-distribution with {DegreesWords(r.EffectiveDegreesOfFreedom)} effective degrees of freedom corresponds to a coverage probability of approximately {(stated.CoverageProbability * 100).ToString("0.##", C)} %.",
-            Budget = BudgetRows(f.Lines, r),
+                $"which for a t-distribution with {DegreesWords(stated.EffectiveDegreesOfFreedom)} effective degrees of freedom corresponds to a coverage probability of approximately {(stated.CoverageProbability * 100).ToString("0.##", C)} %. " +
+                "It covers the measurement on the calibration date in the posture and conditions stated: the reference, the comparator, the readings' scatter and the environment during the run; " +
+                "it does not include aging or the conditions of later use, which the in-use prediction states separately." +
+                (f.Calibration is { } cal ? " " + (cal.WithinScope ? cal.Capability : cal.Capability) : "") +
+                (stated.Governs == "Monte Carlo" && stated.CoverageInterval is { } ci ? $" The GUM result was not validated by the Monte Carlo method (JCGM 101 clause 8): the Monte Carlo coverage interval [{Sig(ci[0])}, {Sig(ci[1])}] is the result's coverage interval." : ""),
+            Budget = BudgetRows(f.Lines.Where(l => l.Stage != "in-use").ToArray(), r),
+            Prediction = PredictionWords(f),
             BudgetSummary = [$"Combined standard uncertainty u_c = {Sig(r.CombinedStandardUncertainty)}; effective degrees of freedom {DegreesWords(r.EffectiveDegreesOfFreedom)}; " +
                 $"k = {r.CoverageFactor.ToString("0.00", C)}; U = {Sig(r.ExpandedUncertainty)}. Budget {f.Version.BudgetId} version {f.Version.Number} (template {f.Lines.Count} lines, engine {f.Version.EngineVersion})."
-                + (r.MonteCarlo is { } mc ? $" Monte Carlo (JCGM 101, {mc.Trials.ToString("N0", C)} trials): u = {Sig(mc.StandardUncertainty)}, {(stated.CoverageProbability * 100).ToString("0.##", C)} % interval [{Sig(mc.CoverageInterval[0])}, {Sig(mc.CoverageInterval[1])}]." : "")],
+                + (r.MonteCarlo is { } mc ? $" Monte Carlo (JCGM 101, {mc.Trials.ToString("N0", C)} trials): u = {Sig(mc.StandardUncertainty)}, {(stated.CoverageProbability * 100).ToString("0.##", C)} % interval [{Sig(mc.CoverageInterval[0])}, {Sig(mc.CoverageInterval[1])}]." : "")
+                + (f.Calibration is { CmcApplied: true } cmc ? $" The budget's U is below the laboratory's CMC for this range (U = {Sig(cmc.CmcExpandedUncertainty ?? 0)}), so the CMC is stated (ILAC-P14)." : "")],
             Conformity = conformity,
             Recall = recallWords,
             Stability = StabilityData(f),
@@ -249,6 +285,22 @@ public static class CertificateComposer
         return new PostureStatement(words, [calibration.Up.X, calibration.Up.Y, calibration.Up.Z], frame, others, basis);
     }
 
+    private static List<string>? PredictionWords(CertificateFacts f)
+    {
+        if (f.Prediction is not { } p)
+        {
+            return null;
+        }
+
+        var inUse = p.Result.Contributions.Where(c => p.Lines.Contains(c.Name)).Select(c => $"{c.Name} u = {Sig(c.StandardUncertainty)}");
+        return [p.Statement,
+            $"It combines the calibration result with the in-use lines of the budget ({string.Join("; ", inUse)}); its expanded uncertainty is for the customer's planning and the recall interval, " +
+            "and is not the uncertainty of the calibration result.",
+            "It is a prediction from the stated assumptions and the data named in the budget; it does not replace a calibration."];
+    }
+
+    private static string Probability(double p) => p > 0.99995 ? "> 0.9999" : p < 0.00005 ? "< 0.0001" : p.ToString("0.0000", C);
+
     private static List<ResultLine> ResultLines(CertificateFacts f, StatedResult measured)
     {
         const string quantity = "fractional frequency offset y = (f - f0) / f0 (dimensionless)";
@@ -285,11 +337,11 @@ public static class CertificateComposer
             $"{f.Readings.Length} readings at tau0 = {tau0.ToString("G", C)} s.");
     }
 
-    private static DriftPlot DriftData((DateTimeOffset Date, double Offset, double U)[] history, AgingResult? fit, DateTimeOffset origin)
+    private static DriftPlot DriftData(HistoryPoint[] history, AgingResult? fit, DateTimeOffset origin)
     {
         double[] days = history.Select(h => (h.Date - origin).TotalDays).ToArray();
         double[]? fitDays = fit is null ? null : [days[0], days[^1]];
-        return new DriftPlot("History of the instrument's results, bars: U", days, history.Select(h => h.Offset).ToArray(), history.Select(h => h.U).ToArray(),
+        return new DriftPlot("History of the instrument's results since its last adjustment, bars: U", days, history.Select(h => h.Offset).ToArray(), history.Select(h => h.ExpandedUncertainty).ToArray(),
             fitDays, fitDays?.Select(fit!.ValueAt).ToArray(), $"days from {origin:yyyy-MM-dd}",
             fit is null ? $"{history.Length} dated result(s); a drift line needs three." : $"Dashed: linear aging fit, {Sci(fit.Parameters[1])} per day.");
     }

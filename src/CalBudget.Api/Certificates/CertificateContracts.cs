@@ -27,7 +27,8 @@ public sealed record ToleranceRequest(double? Lower, double? Upper);
 /// <summary>An ILAC-G8:09/2019 decision rule.</summary>
 /// <param name="Kind">"simple-acceptance", "guard-band" or "non-binary".</param>
 /// <param name="GuardBandMultiple">For "guard-band": w = r U with this r (default 1).</param>
-public sealed record DecisionRuleRequest(string? Kind, double? GuardBandMultiple);
+/// <param name="LowRatioReason">Simple acceptance below the lab's minimum test uncertainty ratio (CalBudget:MinimumTestUncertaintyRatio) needs this reason; it is printed.</param>
+public sealed record DecisionRuleRequest(string? Kind, double? GuardBandMultiple, string? LowRatioReason = null);
 
 /// <summary>The customer's request for a recall interval.</summary>
 /// <param name="LongestDays">The longest interval the lab states (default 730).</param>
@@ -36,8 +37,10 @@ public sealed record RecallRequest(int? LongestDays);
 /// <summary>A dated earlier result.</summary>
 /// <param name="Date">When.</param>
 /// <param name="FractionalOffset">y then.</param>
-/// <param name="ExpandedUncertainty">U then (k = 2).</param>
-public sealed record PriorResultRequest(DateTimeOffset? Date, double? FractionalOffset, double? ExpandedUncertainty);
+/// <param name="ExpandedUncertainty">U then.</param>
+/// <param name="CoverageFactor">k of that U (default 2).</param>
+/// <param name="Adjusted">True when the item was adjusted at that calibration: the aging fit starts again from that result.</param>
+public sealed record PriorResultRequest(DateTimeOffset? Date, double? FractionalOffset, double? ExpandedUncertainty, double? CoverageFactor = null, bool? Adjusted = null);
 
 /// <summary>Amend a certificate: a new certificate that names and replaces it.</summary>
 /// <param name="Note">What the amendment changes and why (required; printed on the new certificate).</param>
@@ -81,7 +84,11 @@ public sealed record CertificateDto(long Id, string Number, string State, long B
 /// <param name="ExpandedUncertainty">U.</param>
 /// <param name="CoverageFactor">k.</param>
 /// <param name="CoverageProbability">p.</param>
-public sealed record StatedResult(DateTimeOffset CalibratedAt, double Estimate, double StandardUncertainty, double ExpandedUncertainty, double CoverageFactor, double CoverageProbability);
+/// <param name="EffectiveDegreesOfFreedom">nu_eff of the budget, null when infinite (p_c is computed from a t-distribution with it).</param>
+/// <param name="Governs">"GUM", "Monte Carlo" (the GUM result was not validated) or "CMC" (U raised to the lab's CMC).</param>
+/// <param name="CoverageInterval">The stated coverage interval.</param>
+public sealed record StatedResult(DateTimeOffset CalibratedAt, double Estimate, double StandardUncertainty, double ExpandedUncertainty, double CoverageFactor, double CoverageProbability,
+    double? EffectiveDegreesOfFreedom = null, string Governs = "GUM", double[]? CoverageInterval = null);
 
 /// <summary>The decision stored with a certificate.</summary>
 /// <param name="Rule">The rule's name.</param>
@@ -91,11 +98,13 @@ public sealed record StatedResult(DateTimeOffset CalibratedAt, double Estimate, 
 /// <param name="GuardBand">w.</param>
 /// <param name="AcceptanceLower">T_L + w.</param>
 /// <param name="AcceptanceUpper">T_U - w.</param>
-/// <param name="ProbabilityOfConformity">p_c for a normal result (JCGM 106).</param>
+/// <param name="ProbabilityOfConformity">p_c from the distribution of the stated interval: t with nu_eff (normal when infinite; JCGM 106 with the GUM's t).</param>
 /// <param name="MonteCarloProbabilityOfConformity">p_c from the budget's Monte Carlo run, when it has one.</param>
 /// <param name="TestUncertaintyRatio">(T_U - T_L) / 2U.</param>
+/// <param name="Governs">Which p_c the certificate states as governing: "t", "normal" or "Monte Carlo".</param>
+/// <param name="LowRatioReason">The reason given for simple acceptance below the lab's minimum TUR.</param>
 public sealed record StoredDecision(string Rule, double? Lower, double? Upper, string Outcome, double GuardBand, double? AcceptanceLower, double? AcceptanceUpper,
-    double ProbabilityOfConformity, double? MonteCarloProbabilityOfConformity, double? TestUncertaintyRatio);
+    double ProbabilityOfConformity, double? MonteCarloProbabilityOfConformity, double? TestUncertaintyRatio, string Governs = "normal", string? LowRatioReason = null);
 
 /// <summary>The recall interval stored with a certificate.</summary>
 /// <param name="Days">Days after calibration; null beyond the longest interval.</param>

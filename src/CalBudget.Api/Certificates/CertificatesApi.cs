@@ -252,6 +252,8 @@ public static class CertificatesApi
             {
                 errors.Add(prefix + "decisionRule.guardBandMultiple", "Must be a finite number >= 0.");
             }
+
+            errors.Text(rule.LowRatioReason, prefix + "decisionRule.lowRatioReason", 1000, required: false);
         }
 
         if (r.RecallInterval?.LongestDays is { } longest && longest is < 1 or > 36_525)
@@ -270,6 +272,7 @@ public static class CertificatesApi
 
             errors.Finite(prior[i].FractionalOffset, at + ".fractionalOffset");
             errors.Positive(prior[i].ExpandedUncertainty, at + ".expandedUncertainty");
+            errors.Positive(prior[i].CoverageFactor, at + ".coverageFactor");
         }
 
         return errors.IsEmpty ? null : Problems.Invalid(errors.ToDictionary());
@@ -286,7 +289,11 @@ public static class CertificatesApi
         }
 
         var (budget, version, lines, evaluate, result) = found.Value!.Value;
+        var run = (await CalibrationRunStore.GetAsync(work, budget.RunId))!;
+        var stages = StoredBudgetsApi.Stages(version, json);
+        var asFound = Stated(run.Fields.StartedAt, result, stages?.Calibration);
         StatedResult? asLeft = null;
+        var prediction = stages?.Prediction;
         if (request.Adjusted == true)
         {
             var left = await ApprovedAsync(work, request.AsLeftBudgetId!.Value, request.AsLeftVersion!.Value, "asLeft", json);
@@ -296,35 +303,32 @@ public static class CertificatesApi
             }
 
             var leftRun = (await CalibrationRunStore.GetAsync(work, left.Value!.Value.Budget.RunId))!;
-            var lr = left.Value.Value.Result;
-            asLeft = new StatedResult(leftRun.Fields.StartedAt, lr.Estimate, lr.CombinedStandardUncertainty, lr.ExpandedUncertainty, lr.CoverageFactor, lr.CoverageProbability);
+            var leftStages = StoredBudgetsApi.Stages(left.Value.Value.Version, json);
+            asLeft = Stated(leftRun.Fields.StartedAt, left.Value.Value.Result, leftStages?.Calibration);
+            prediction = leftStages?.Prediction;
         }
 
-        var run = (await CalibrationRunStore.GetAsync(work, budget.RunId))!;
         var instrument = (await InstrumentStore.GetAsync(work, run.Fields.InstrumentId))!;
         var reference = (await ReferenceStandardStore.GetAsync(work, run.Fields.ReferenceId))!;
         var spec = JsonSerializer.Deserialize<TimebaseSpecificationDto>(instrument.Fields.SpecificationJson, o)!;
         double[] values = version.ReadingUploadId is { } uploadId ? await readings.FractionalOffsetsAsync(uploadId, ct) : [];
 
-        var history = new List<(DateTimeOffset, double, double)>();
-        foreach (var earlier in await CertificateStore.HistoryAsync(work, instrument.Id))
-        {
-            var s = JsonSerializer.Deserialize<StatedResult>(earlier.Result, o)!;
-            if (earlier.BudgetId != budget.Id && s.CalibratedAt < run.Fields.StartedAt)
-            {
-                history.Add((s.CalibratedAt, s.Estimate, s.ExpandedUncertainty));
-            }
-        }
-
-        history.AddRange((request.PriorResults ?? []).Select(p => (p.Date!.Value, p.FractionalOffset!.Value, p.ExpandedUncertainty!.Value)));
+        var history = await InstrumentHistory.CertificatesAsync(work, instrument.Id, run.Fields.StartedAt, budget.Id, o);
+        history.AddRange((request.PriorResults ?? []).Select(p => new HistoryPoint(p.Date!.Value, p.FractionalOffset!.Value, p.ExpandedUncertainty!.Value, p.CoverageFactor ?? 2,
+            p.Adjusted == true)));
         string number = await NextNumberAsync(work, options.CertificateNumberPattern, now);
         string approver = await Data.Keys.ApiKeyStore.PersonAsync(work, version.ApprovedBy!);
         var facts = new CertificateFacts(number, now, Conventions.Person(http.User), approver, version.MadeByPerson, setup.Wording, request, instrument, spec, run, reference, values, version, lines,
-            evaluate, result, asLeft, await SensitivityTestStore.LatestAsync(work, instrument.Id), history, replaces?.Number, note);
+            evaluate, result, asLeft, await SensitivityTestStore.LatestAsync(work, instrument.Id), history, replaces?.Number, note)
+        {
+            AsFound = asFound,
+            Calibration = asLeft is null ? stages?.Calibration : null,
+            Prediction = prediction,
+        };
         ComposedCertificate composed;
         try
         {
-            composed = CertificateComposer.Compose(facts, options.MonteCarloMaxTrials);
+            composed = CertificateComposer.Compose(facts, options.MonteCarloMaxTrials, options.MinimumTestUncertaintyRatio);
         }
         catch (MetrologyException ex)
         {
@@ -347,6 +351,13 @@ public static class CertificatesApi
         await work.CommitAsync(ct);
         return TypedResults.Created($"/api/v1/certificates/{id}", dto);
     }
+
+    // The calibration result as the version states it (the CMC floor, which evaluation governs); a version made before the
+    // two results were kept apart states its one result as approved.
+    private static StatedResult Stated(DateTimeOffset at, EvaluateResponse r, CalibrationResultDto? c) => c is null
+        ? new StatedResult(at, r.Estimate, r.CombinedStandardUncertainty, r.ExpandedUncertainty, r.CoverageFactor, r.CoverageProbability, r.EffectiveDegreesOfFreedom)
+        : new StatedResult(at, c.Estimate, c.StandardUncertainty, c.ExpandedUncertainty, c.CoverageFactor, c.CoverageProbability, c.EffectiveDegreesOfFreedom, c.Governs,
+            c.CoverageInterval);
 
     private sealed record Approved(ProblemHttpResult? Problem, (Budget Budget, BudgetVersion Version, IReadOnlyList<BudgetLineDto> Lines, EvaluateRequest Evaluate, EvaluateResponse Result)? Value);
 

@@ -33,6 +33,9 @@ public sealed class CalBudgetOptions
     /// <summary>The ceiling on Monte Carlo trials per evaluation (422 beyond it).</summary>
     public long MonteCarloMaxTrials { get; set; } = Core.MonteCarlo.MonteCarloOptions.DefaultMaxTrials;
 
+    /// <summary>The lab's minimum test uncertainty ratio (T_U - T_L) / 2U for simple acceptance; below it a statement of conformity by simple acceptance needs a stated reason (cal-lab practice: 4).</summary>
+    public double MinimumTestUncertaintyRatio { get; set; } = 4;
+
     /// <summary>Requests per API key (or, without a key, per client address) in each 10-second window; 429 with Retry-After beyond.</summary>
     public int RequestsPer10Seconds { get; set; } = 1200;
 

@@ -25,6 +25,7 @@ public static class DatabaseStartup
     {
         ArgumentNullException.ThrowIfNull(services);
         _ = services.GetRequiredService<Budgets.TemplateCatalog>(); // a malformed template stops the start here, naming its file and field
+        _ = services.GetRequiredService<Budgets.LabScope>(); // and so does a malformed scope
         _ = services.GetRequiredService<Certificates.CertificateSetup>(); // so do missing fonts and a malformed wording file
         var database = services.GetRequiredService<SqliteDatabase>();
         var log = services.GetRequiredService<ILoggerFactory>().CreateLogger("CalBudget.Database");

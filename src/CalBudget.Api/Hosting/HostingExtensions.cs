@@ -69,6 +69,8 @@ public static class HostingExtensions
         // the templates are read (and checked) once; a malformed file stops the service at start, naming the file and field
         builder.Services.AddSingleton(sp => Budgets.TemplateCatalog.Load(Path.Combine(AppContext.BaseDirectory,
             sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value.TemplatesDirectory)));
+        builder.Services.AddSingleton(sp => Budgets.LabScope.Load(Path.Combine(AppContext.BaseDirectory,
+            sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value.TemplatesDirectory)));
         builder.Services.AddSingleton<CalBudget.Data.Certificates.CertificateStore>();
         // fonts and the lab's wording are found once; no usable font or a bad wording file stops the service at start
         builder.Services.AddSingleton(sp =>

@@ -144,7 +144,9 @@ public static class SensitivityTestsApi
             return Problems.NotComputable(new Dictionary<string, string[]> { ["runIds"] = [ex.Message] });
         }
 
-        double[][]? covariance = fit.Covariance is { } c ? Enumerable.Range(0, 3).Select(i => Enumerable.Range(0, 3).Select(j => c[i, j]).ToArray()).ToArray() : null;
+        // the covariance budgets rely on: run-to-run scatter (re-seating, retrace) is judged from the residuals, so the
+        // within-run Type A weights are scaled by the Birge ratio squared when chi^2 / nu > 1; none with four runs (nu = 0)
+        double[][]? covariance = fit.ScaledCovariance is { } c ? Enumerable.Range(0, 3).Select(i => Enumerable.Range(0, 3).Select(j => c[i, j]).ToArray()).ToArray() : null;
         var test = await SensitivityTestStore.CreateAsync(work, instrument.Id, fit.Gamma.ToArray(), fit.OffsetAtRest, covariance, fit.DegreesOfFreedom,
             runIds.ToArray(), notes, Conventions.Actor(http.User), now);
         var dto = ToDto(test);

@@ -472,7 +472,7 @@ public static class StaffPages
         string posture = values.GetValueOrDefault("posture", "as-calibrated");
         double? tilt = double.TryParse(values.GetValueOrDefault("tilt"), NumberStyles.Float, CultureInfo.InvariantCulture, out double t) ? t : null;
         var request = new BudgetBuildRequest(id, values.GetValueOrDefault("templateId"), new PosturePolicyDto(posture, null, posture == "tilt-limit" ? tilt : null), null, null);
-        var result = await StoredBudgetsApi.Create(request, http, database, time, catalog, readings, json, options, ct);
+        var result = await StoredBudgetsApi.Create(request, http, database, time, catalog, http.RequestServices.GetRequiredService<LabScope>(), readings, json, options, ct);
         if (ValueOf<BudgetDto>(result) is { } created)
         {
             return Results.Redirect($"/budgets/{created.Id}");
@@ -533,7 +533,7 @@ public static class StaffPages
             posture.Length > 0 ? new PosturePolicyDto(posture, null, posture == "tilt-limit" ? tilt : null) : null, overrides, null);
         // the form names the version it was made from: a version made meanwhile by someone else gets 412, as over the API
         http.Request.Headers.IfMatch = "\"" + values.GetValueOrDefault("latest", "0") + "\"";
-        var result = await StoredBudgetsApi.Revise(id, request, http, database, time, catalog, readings, json, options, ct);
+        var result = await StoredBudgetsApi.Revise(id, request, http, database, time, catalog, http.RequestServices.GetRequiredService<LabScope>(), readings, json, options, ct);
         return ErrorsOf(result) is { } errors ? await BudgetAsync(id, http, budgets, certificates, json, ct, values, errors) : Results.Redirect($"/budgets/{id}");
     }
 

@@ -59,7 +59,7 @@ public sealed record DecisionRule
 /// <param name="GuardBand">w, the guard band used (0 for simple acceptance).</param>
 /// <param name="AcceptanceLower">T_L + w, or null for no lower limit.</param>
 /// <param name="AcceptanceUpper">T_U - w, or null for no upper limit.</param>
-/// <param name="ProbabilityOfConformity">p_c of JCGM 106:2012 for a normal result (eq. 9 and its one-sided forms).</param>
+/// <param name="ProbabilityOfConformity">p_c of JCGM 106:2012 (eq. 9 and its one-sided forms) for a normal result, or a scaled t when degrees of freedom were given.</param>
 /// <param name="TestUncertaintyRatio">(T_U - T_L) / (2 U) for two-sided limits (cal-lab practice); null for one limit.</param>
 public sealed record ConformityDecision(ConformityOutcome Outcome, double GuardBand, double? AcceptanceLower, double? AcceptanceUpper,
     double ProbabilityOfConformity, double? TestUncertaintyRatio);
@@ -77,7 +77,9 @@ public static class ConformityAssessment
     /// <param name="expandedUncertainty">U = k u(y), finite and &gt; 0.</param>
     /// <param name="limits">The tolerance.</param>
     /// <param name="rule">The decision rule.</param>
-    public static ConformityDecision Decide(double y, double standardUncertainty, double expandedUncertainty, ToleranceLimits limits, DecisionRule rule)
+    /// <param name="degreesOfFreedom">nu_eff of the result: p_c then comes from the scaled t-distribution the stated interval is drawn from; null or infinite: normal.</param>
+    public static ConformityDecision Decide(double y, double standardUncertainty, double expandedUncertainty, ToleranceLimits limits, DecisionRule rule,
+        double? degreesOfFreedom = null)
     {
         ArgumentNullException.ThrowIfNull(limits);
         ArgumentNullException.ThrowIfNull(rule);
@@ -110,7 +112,10 @@ public static class ConformityAssessment
         }
 
         double? tur = limits.IsTwoSided ? (limits.Upper!.Value - limits.Lower!.Value) / (2 * expandedUncertainty) : null;
-        return new ConformityDecision(outcome, w, acceptLow, acceptHigh, ProbabilityOfConformity(y, standardUncertainty, limits), tur);
+        double pc = degreesOfFreedom is double nu && double.IsFinite(nu)
+            ? ProbabilityOfConformity(y, standardUncertainty, nu, limits)
+            : ProbabilityOfConformity(y, standardUncertainty, limits);
+        return new ConformityDecision(outcome, w, acceptLow, acceptHigh, pc, tur);
     }
 
     /// <summary>
@@ -128,6 +133,28 @@ public static class ConformityAssessment
         // p_c = 1 - P(Y < T_L) - P(Y > T_U), each tail from the complementary function.
         double below = limits.Lower is { } l ? Normal.CDF(0, 1, (l - y) / standardUncertainty) : 0;
         double above = limits.Upper is { } u ? Normal.CDF(0, 1, (y - u) / standardUncertainty) : 0;
+        return Math.Clamp(1 - below - above, 0, 1);
+    }
+
+    /// <summary>
+    /// p_c for a result whose distribution is the scaled and shifted t with <paramref name="degreesOfFreedom"/> (JCGM 100
+    /// G.3; the distribution the stated coverage interval y +/- k u comes from): p_c = T_nu((T_U - y)/u) - T_nu((T_L - y)/u).
+    /// </summary>
+    public static double ProbabilityOfConformity(double y, double scale, double degreesOfFreedom, ToleranceLimits limits)
+    {
+        ArgumentNullException.ThrowIfNull(limits);
+        if (!double.IsFinite(scale) || scale <= 0)
+        {
+            throw new MetrologyException("standardUncertainty", "Must be a finite number > 0.");
+        }
+
+        if (double.IsNaN(degreesOfFreedom) || degreesOfFreedom <= 0)
+        {
+            throw new MetrologyException("degreesOfFreedom", "Must be > 0.");
+        }
+
+        double below = limits.Lower is { } l ? StudentT.CDF(0, 1, degreesOfFreedom, (l - y) / scale) : 0;
+        double above = limits.Upper is { } u ? StudentT.CDF(0, 1, degreesOfFreedom, (y - u) / scale) : 0;
         return Math.Clamp(1 - below - above, 0, 1);
     }
 

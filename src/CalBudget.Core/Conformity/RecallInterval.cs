@@ -14,7 +14,8 @@ public sealed record RecallResult(int? Days, int LongestDays, double PredictedOf
 /// The predictive recall interval (the method family ILAC-G24 / OIML D10 describe for drifting instruments): the offset
 /// after calibration is y(t) = y_cal + [f(t) - f(t_cal)], the calibrated value carried forward by the fitted aging
 /// model f, with u(t)^2 = u_cal^2 + g^T C g (g the gradient of f(t) - f(t_cal) in the model's parameters, C their
-/// covariance) and U(t) = k u(t). The interval ends on the first whole day on which y(t) + U(t) reaches T_U or
+/// covariance) plus the fit's residual scatter s^2 (the results scatter about the line by more than their own u says,
+/// and a prediction must carry that), and U(t) = k u(t). The interval ends on the first whole day on which y(t) + U(t) reaches T_U or
 /// y(t) - U(t) reaches T_L.
 /// </summary>
 public static class RecallInterval
@@ -27,8 +28,9 @@ public static class RecallInterval
     /// <param name="coverageFactor">k of the certificate.</param>
     /// <param name="limits">The tolerance.</param>
     /// <param name="longestDays">The ceiling, 1 to 36,525 days.</param>
+    /// <param name="residualScatter">s, the fit's residual standard deviation, added to every day's prediction after the calibration (0 to leave it out).</param>
     public static RecallResult Find(AgingResult fit, double calibrationDay, double calibratedOffset, double standardUncertainty, double coverageFactor,
-        ToleranceLimits limits, int longestDays)
+        ToleranceLimits limits, int longestDays, double residualScatter = 0)
     {
         ArgumentNullException.ThrowIfNull(fit);
         ArgumentNullException.ThrowIfNull(limits);
@@ -46,7 +48,7 @@ public static class RecallInterval
         {
             double t = calibrationDay + day;
             double[] g = Gradient(fit, t, calibrationDay);
-            double variance = standardUncertainty * standardUncertainty;
+            double variance = standardUncertainty * standardUncertainty + (day > 0 ? residualScatter * residualScatter : 0);
             for (int i = 0; i < g.Length; i++)
             {
                 for (int j = 0; j < g.Length; j++)
@@ -62,7 +64,8 @@ public static class RecallInterval
 
         string model = fit.Model == AgingModel.Linear ? "linear" : "logarithmic";
         string method = $"Predictive: the as-left value carried forward by the {model} aging fit of the instrument's dated results " +
-            $"({fit.DegreesOfFreedom + fit.Parameters.Length} points), with its uncertainty from the calibration and the fit's covariance, " +
+            $"({fit.DegreesOfFreedom + fit.Parameters.Length} points since the last adjustment, each weighted by its own U / k), with its uncertainty from the calibration result, " +
+            "the fit's covariance and its residual scatter (aging is counted once: in the drift, not in the calibration uncertainty), " +
             $"expanded with k = {coverageFactor.ToString("0.00", System.Globalization.CultureInfo.InvariantCulture)}; the interval ends on the first day " +
             "on which the offset with its expanded uncertainty reaches a tolerance limit.";
         for (int day = 0; day <= longestDays; day++)

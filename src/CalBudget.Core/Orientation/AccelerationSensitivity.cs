@@ -14,7 +14,14 @@ public sealed record PostureReading(Posture Posture, double FractionalOffset, do
 /// <param name="Covariance">Covariance of gamma (3 x 3), or null when it has no degrees of freedom to come from.</param>
 /// <param name="DegreesOfFreedom">n - 4.</param>
 /// <param name="Weighted">True when every reading carried an uncertainty and the fit used 1/u^2 weights with the covariance taken as known.</param>
-public sealed record SensitivityFit(Vector3D Gamma, double OffsetAtRest, double[,]? Covariance, int DegreesOfFreedom, bool Weighted)
+/// <param name="ReducedChiSquared">chi^2 / nu of the weighted fit (the Birge ratio squared), or null when unweighted or nu = 0.</param>
+/// <param name="ScaledCovariance">
+/// The covariance a budget may rely on: from the residuals (unweighted), or the stated weights' covariance times
+/// max(1, chi^2/nu) (weighted); null when n = 4 leaves no residual to judge the scatter by. Within-run Type A alone
+/// understates the covariance, since run-to-run changes (retrace, re-seating) dominate a tip-over test.
+/// </param>
+public sealed record SensitivityFit(Vector3D Gamma, double OffsetAtRest, double[,]? Covariance, int DegreesOfFreedom, bool Weighted,
+    double? ReducedChiSquared = null, double[,]? ScaledCovariance = null)
 {
     /// <summary>|Gamma| = sqrt(Gx^2 + Gy^2 + Gz^2) (J. R. Vig's oscillator tutorial).</summary>
     public double Magnitude => Gamma.Length;
@@ -32,7 +39,8 @@ public static class AccelerationSensitivity
     /// <summary>
     /// Fits y_k = y0 + Gamma . up_k. Weights are 1/u^2 when every reading has an uncertainty (covariance (X^T W X)^-1, taken
     /// as known); otherwise equal, with covariance s^2 (X^T X)^-1 and s^2 the residual variance on n - 4 degrees of freedom
-    /// (null when n = 4). Fewer than four readings, or postures whose up vectors lie in one plane (so that some component of
+    /// (null when n = 4). <see cref="SensitivityFit.ScaledCovariance"/> is the one to propagate: the weighted covariance
+    /// scaled by the Birge ratio squared chi^2/nu when that exceeds 1 (R. T. Birge, 1932; common practice). Fewer than four readings, or postures whose up vectors lie in one plane (so that some component of
     /// Gamma is not determined), are refused as not computable.
     /// </summary>
     public static SensitivityFit Fit(IReadOnlyList<PostureReading> readings)
@@ -81,28 +89,28 @@ public static class AccelerationSensitivity
 
         var beta = svd.Solve(y);
         var inverse = (x.TransposeThisAndMultiply(x)).Inverse();
-        double[,]? covariance = null;
         int dof = n - 4;
-        if (weighted || dof > 0)
+        var residual = y - x * beta;
+        double chi2 = residual.DotProduct(residual); // weighted: chi^2; unweighted: the residual sum of squares
+        double? reduced = weighted && dof > 0 ? chi2 / dof : null;
+        double[,]? Scaled(double scale)
         {
-            double scale = 1;
-            if (!weighted)
-            {
-                var residual = y - x * beta;
-                scale = residual.DotProduct(residual) / dof;
-            }
-
-            covariance = new double[3, 3];
+            var c = new double[3, 3];
             for (int i = 0; i < 3; i++)
             {
                 for (int j = 0; j < 3; j++)
                 {
-                    covariance[i, j] = scale * inverse[i + 1, j + 1];
+                    c[i, j] = scale * inverse[i + 1, j + 1];
                 }
             }
+
+            return c;
         }
 
-        return new SensitivityFit(new Vector3D(beta[1], beta[2], beta[3]), beta[0], covariance, dof, weighted);
+        // the contract's covariance: (X^T W X)^-1 with the weights taken as known, else s^2 (X^T X)^-1 on n - 4 degrees of freedom
+        double[,]? covariance = weighted ? Scaled(1) : dof > 0 ? Scaled(chi2 / dof) : null;
+        double[,]? honest = !weighted ? covariance : reduced is double ratio ? Scaled(Math.Max(1, ratio)) : null;
+        return new SensitivityFit(new Vector3D(beta[1], beta[2], beta[3]), beta[0], covariance, dof, weighted, reduced, honest);
     }
 
     /// <summary>The classic six-position tip-over: Gamma_i = (y(+i up) - y(-i up)) / 2 (follows from dy = Gamma . A).</summary>

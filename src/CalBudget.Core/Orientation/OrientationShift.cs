@@ -9,6 +9,14 @@ namespace CalBudget.Core.Orientation;
 /// <param name="WorstPosture">The posture where |dy| is largest (known posture: that posture).</param>
 public sealed record ShiftResult(double? Shift, double StandardUncertainty, double? HalfWidth, Posture WorstPosture);
 
+/// <summary>The distribution of dy = Gamma . (u - c) for postures u uniform by area within a tilt of the calibration posture c.</summary>
+/// <param name="Mean">E[dy], the correction a prediction takes.</param>
+/// <param name="GeometricStandardDeviation">The standard deviation of dy over the cap for Gamma as estimated.</param>
+/// <param name="GammaStandardUncertainty">sqrt(E_u[(u - c)^T Sigma (u - c)]): what u(Gamma) adds, averaged over the cap (0 without Sigma).</param>
+/// <param name="StandardUncertainty">sqrt of the sum of both squares.</param>
+/// <param name="HalfWidth">The largest |dy| over the cap (<see cref="OrientationShift.WithinTilt"/>).</param>
+public sealed record CapShift(double Mean, double GeometricStandardDeviation, double GammaStandardUncertainty, double StandardUncertainty, double HalfWidth);
+
 /// <summary>
 /// dy = Gamma . (up_use - up_cal). For a known posture of use, the shift and its uncertainty; for every posture within a tilt
 /// angle of the calibration posture (180 degrees: any orientation), the largest |dy|, found exactly: Gamma . up over a
@@ -57,6 +65,47 @@ public static class OrientationShift
         var worst = up >= down ? top.At : bottom.At;
         double halfWidth = Math.Max(up, down);
         return new ShiftResult(null, Uncertainty(worst - c, gammaCovariance), halfWidth, Posture.FromVector(worst));
+    }
+
+    /// <summary>
+    /// The mean and standard uncertainty of dy = Gamma . (u - c) over the cap of <paramref name="tiltDegrees"/> (180: any
+    /// orientation), with u uniform by area: t = cos(angle) uniform on [cos theta, 1], so E[t] = (1 + cos theta) / 2,
+    /// E[t^2] = (1 + cos theta + cos^2 theta) / 3, and with a = Gamma . c, b = |Gamma - a c|:
+    /// E[dy] = a (E[t] - 1), Var[dy] = a^2 Var[t] + b^2 (1 - E[t^2]) / 2. The uncertainty of Gamma adds
+    /// E[(u - c)^T Sigma (u - c)] = E[(t - 1)^2] c^T Sigma c + (1 - E[t^2]) / 2 (tr Sigma - c^T Sigma c) (derived by hand;
+    /// checked against direct sampling in the tests).
+    /// </summary>
+    public static CapShift OverCap(Vector3D gamma, Posture calibration, double tiltDegrees, double[,]? gammaCovariance = null)
+    {
+        var range = WithinTilt(gamma, calibration, tiltDegrees);
+        var c = calibration.Up;
+        double a = gamma.Dot(c);
+        double b = (gamma - a * c).Length;
+        double cosTheta = Math.Cos(tiltDegrees * Math.PI / 180);
+        double meanT = (1 + cosTheta) / 2;
+        double meanT2 = (1 + cosTheta + cosTheta * cosTheta) / 3;
+        double varT = (1 - cosTheta) * (1 - cosTheta) / 12;
+        double geometric = Math.Sqrt(Math.Max(a * a * varT + b * b * (1 - meanT2) / 2, 0));
+        double gammaVariance = 0;
+        if (gammaCovariance is not null)
+        {
+            double[] cv = [c.X, c.Y, c.Z];
+            double along = 0, trace = 0;
+            for (int i = 0; i < 3; i++)
+            {
+                trace += gammaCovariance[i, i];
+                for (int j = 0; j < 3; j++)
+                {
+                    along += cv[i] * gammaCovariance[i, j] * cv[j];
+                }
+            }
+
+            double meanSquareAlong = meanT2 - 2 * meanT + 1; // E[(t - 1)^2]
+            gammaVariance = Math.Max(meanSquareAlong * along + (1 - meanT2) / 2 * (trace - along), 0);
+        }
+
+        double gammaU = Math.Sqrt(gammaVariance);
+        return new CapShift(a * (meanT - 1), geometric, gammaU, Math.Sqrt(geometric * geometric + gammaVariance), range.HalfWidth!.Value);
     }
 
     /// <summary>Any orientation at all: the tilt limit of 180 degrees.</summary>

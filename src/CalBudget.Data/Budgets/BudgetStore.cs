@@ -41,9 +41,10 @@ public sealed record Budget(long Id, long RunId, string TemplateId, DateTimeOffs
 /// <param name="ApprovedBy">By whom.</param>
 /// <param name="SignatureMeaning">What the approval means, in the approver's words.</param>
 /// <param name="SupersededAt">When a later version was approved.</param>
+/// <param name="Stages">The calibration result as stated and the in-use prediction, as JSON; null for versions made before the two were kept apart.</param>
 public sealed record BudgetVersion(long BudgetId, int Number, string State, string Reason, int TemplateVersion, long? ReadingUploadId, string Snapshot,
     string Result, string EngineVersion, DateTimeOffset MadeAt, string MadeBy, string MadeByPerson, DateTimeOffset? ApprovedAt, string? ApprovedBy, string? SignatureMeaning,
-    DateTimeOffset? SupersededAt);
+    DateTimeOffset? SupersededAt, string? Stages = null);
 
 /// <summary>Budgets and their versions.</summary>
 public sealed class BudgetStore(IDbConnectionFactory database)
@@ -56,7 +57,7 @@ public sealed class BudgetStore(IDbConnectionFactory database)
     private const string VersionColumns = """
         budget_id AS budgetId, number, state, reason, template_version AS templateVersion, reading_upload_id AS readingUploadId, snapshot, result,
         engine_version AS engineVersion, made_at AS madeAt, made_by AS madeBy, made_by_person AS madeByPerson, approved_at AS approvedAt, approved_by AS approvedBy,
-        signature_meaning AS signatureMeaning, superseded_at AS supersededAt
+        signature_meaning AS signatureMeaning, superseded_at AS supersededAt, stages
         """;
 
     /// <summary>A new budget (its first version is added with <see cref="AddVersionAsync"/> in the same work).</summary>
@@ -70,14 +71,14 @@ public sealed class BudgetStore(IDbConnectionFactory database)
 
     /// <summary>Adds a draft version.</summary>
     public static Task AddVersionAsync(UnitOfWork work, long budgetId, int number, string reason, int templateVersion, long? readingUploadId, string snapshot,
-        string result, string engineVersion, string actor, string person, DateTimeOffset now)
+        string result, string engineVersion, string actor, string person, DateTimeOffset now, string? stages = null)
     {
         ArgumentNullException.ThrowIfNull(work);
         const string sql = """
-            INSERT INTO budget_versions (budget_id, number, state, reason, template_version, reading_upload_id, snapshot, result, engine_version, made_at, made_by, made_by_person)
-            VALUES (@budgetId, @number, 'draft', @reason, @templateVersion, @readingUploadId, @snapshot, @result, @engineVersion, @now, @actor, @person)
+            INSERT INTO budget_versions (budget_id, number, state, reason, template_version, reading_upload_id, snapshot, result, engine_version, made_at, made_by, made_by_person, stages)
+            VALUES (@budgetId, @number, 'draft', @reason, @templateVersion, @readingUploadId, @snapshot, @result, @engineVersion, @now, @actor, @person, @stages)
             """;
-        return work.Connection.ExecuteAsync(sql, new { budgetId, number, reason, templateVersion, readingUploadId, snapshot, result, engineVersion, now = Timestamps.Format(now), actor, person },
+        return work.Connection.ExecuteAsync(sql, new { budgetId, number, reason, templateVersion, readingUploadId, snapshot, result, engineVersion, now = Timestamps.Format(now), actor, person, stages },
             work.Transaction);
     }
 
@@ -187,10 +188,11 @@ public sealed class BudgetStore(IDbConnectionFactory database)
     }
 
     private sealed record VersionRow(long BudgetId, long Number, string State, string Reason, long TemplateVersion, long? ReadingUploadId, string Snapshot,
-        string Result, string EngineVersion, string MadeAt, string MadeBy, string MadeByPerson, string? ApprovedAt, string? ApprovedBy, string? SignatureMeaning, string? SupersededAt)
+        string Result, string EngineVersion, string MadeAt, string MadeBy, string MadeByPerson, string? ApprovedAt, string? ApprovedBy, string? SignatureMeaning, string? SupersededAt,
+        string? Stages)
     {
         public BudgetVersion ToModel() => new(BudgetId, (int)Number, State, Reason, (int)TemplateVersion, ReadingUploadId, Snapshot, Result, EngineVersion,
             Timestamps.Parse(MadeAt), MadeBy, MadeByPerson, ApprovedAt is null ? null : Timestamps.Parse(ApprovedAt), ApprovedBy, SignatureMeaning,
-            SupersededAt is null ? null : Timestamps.Parse(SupersededAt));
+            SupersededAt is null ? null : Timestamps.Parse(SupersededAt), Stages);
     }
 }

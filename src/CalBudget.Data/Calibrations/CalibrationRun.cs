@@ -29,9 +29,11 @@ public sealed record RunEnvironment(double? TemperatureCelsius, double? Temperat
 /// <param name="StartedAt">Start of the run, UTC.</param>
 /// <param name="EndedAt">End of the run, UTC, when known.</param>
 /// <param name="Notes">Free text.</param>
+/// <param name="WarmUpMinutes">How long the instrument had been powered when the run started, minutes, when recorded.</param>
+/// <param name="ComparatorSystematic">The comparator's stated systematic error (trigger level, interpolator nonlinearity), fractional half-width, when specified.</param>
 public sealed record CalibrationRunFields(long InstrumentId, long ReferenceId, string Comparator, double ComparatorResolution, double GateTimeSeconds,
     string? PostureName, double UpX, double UpY, double UpZ, RunEnvironment Environment, string Condition, DateTimeOffset StartedAt,
-    DateTimeOffset? EndedAt, string Notes);
+    DateTimeOffset? EndedAt, string Notes, double? WarmUpMinutes = null, double? ComparatorSystematic = null);
 
 /// <summary>The newest upload of a run's readings, in summary.</summary>
 /// <param name="UploadId">Its id.</param>

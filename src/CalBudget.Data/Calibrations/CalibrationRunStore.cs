@@ -10,7 +10,8 @@ public sealed class CalibrationRunStore(IDbConnectionFactory database)
         SELECT r.id, r.instrument_id AS instrumentId, r.reference_id AS referenceId, r.comparator, r.comparator_resolution AS comparatorResolution,
             r.gate_time_s AS gateTimeSeconds, r.posture_name AS postureName, r.up_x AS upX, r.up_y AS upY, r.up_z AS upZ,
             r.temperature_c AS temperatureCelsius, r.temperature_variation_k AS temperatureVariationKelvin,
-            r.relative_humidity_percent AS relativeHumidityPercent, r.supply, r.condition, r.operator, r.started_at AS startedAt,
+            r.relative_humidity_percent AS relativeHumidityPercent, r.supply, r.warm_up_minutes AS warmUpMinutes,
+            r.comparator_systematic AS comparatorSystematic, r.condition, r.operator, r.started_at AS startedAt,
             r.ended_at AS endedAt, r.notes, r.retired_at AS retiredAt, r.retired_reason AS retiredReason, r.version,
             r.created_at AS createdAt, r.created_by AS createdBy, r.updated_at AS updatedAt, r.updated_by AS updatedBy,
             i.asset_number AS instrumentAssetNumber, s.identity AS referenceIdentity,
@@ -25,10 +26,10 @@ public sealed class CalibrationRunStore(IDbConnectionFactory database)
     private const string InsertSql = """
         INSERT INTO calibration_runs (instrument_id, reference_id, comparator, comparator_resolution, gate_time_s, posture_name,
             up_x, up_y, up_z, temperature_c, temperature_variation_k, relative_humidity_percent, supply, condition, operator,
-            started_at, ended_at, notes, version, created_at, created_by, updated_at, updated_by)
+            started_at, ended_at, notes, warm_up_minutes, comparator_systematic, version, created_at, created_by, updated_at, updated_by)
         VALUES (@InstrumentId, @ReferenceId, @Comparator, @ComparatorResolution, @GateTimeSeconds, @PostureName, @UpX, @UpY, @UpZ,
             @TemperatureCelsius, @TemperatureVariationKelvin, @RelativeHumidityPercent, @Supply, @Condition, @actor, @startedAt,
-            @endedAt, @Notes, 1, @now, @actor, @now, @actor)
+            @endedAt, @Notes, @WarmUpMinutes, @ComparatorSystematic, 1, @now, @actor, @now, @actor)
         RETURNING id
         """;
 
@@ -38,6 +39,7 @@ public sealed class CalibrationRunStore(IDbConnectionFactory database)
             up_x = @UpX, up_y = @UpY, up_z = @UpZ, temperature_c = @TemperatureCelsius,
             temperature_variation_k = @TemperatureVariationKelvin, relative_humidity_percent = @RelativeHumidityPercent,
             supply = @Supply, condition = @Condition, started_at = @startedAt, ended_at = @endedAt, notes = @Notes,
+            warm_up_minutes = @WarmUpMinutes, comparator_systematic = @ComparatorSystematic,
             version = version + 1, updated_at = @now, updated_by = @actor
         WHERE id = @id AND version = @expectedVersion AND retired_at IS NULL
         """;
@@ -154,6 +156,8 @@ public sealed class CalibrationRunStore(IDbConnectionFactory database)
             f.Environment.Supply,
             f.Condition,
             f.Notes,
+            f.WarmUpMinutes,
+            f.ComparatorSystematic,
         });
         p.Add("startedAt", Timestamps.Format(f.StartedAt));
         p.Add("endedAt", f.EndedAt is { } end ? Timestamps.Format(end) : null);
@@ -178,6 +182,8 @@ public sealed class CalibrationRunStore(IDbConnectionFactory database)
         public double? TemperatureVariationKelvin { get; init; }
         public double? RelativeHumidityPercent { get; init; }
         public string Supply { get; init; } = "";
+        public double? WarmUpMinutes { get; init; }
+        public double? ComparatorSystematic { get; init; }
         public string Condition { get; init; } = "";
         public string Operator { get; init; } = "";
         public string StartedAt { get; init; } = "";
@@ -200,7 +206,7 @@ public sealed class CalibrationRunStore(IDbConnectionFactory database)
         public CalibrationRun ToModel() => new(Id,
             new CalibrationRunFields(InstrumentId, ReferenceId, Comparator, ComparatorResolution, GateTimeSeconds, PostureName, UpX, UpY, UpZ,
                 new RunEnvironment(TemperatureCelsius, TemperatureVariationKelvin, RelativeHumidityPercent, Supply), Condition,
-                Timestamps.Parse(StartedAt), EndedAt is null ? null : Timestamps.Parse(EndedAt), Notes),
+                Timestamps.Parse(StartedAt), EndedAt is null ? null : Timestamps.Parse(EndedAt), Notes, WarmUpMinutes, ComparatorSystematic),
             Operator, InstrumentAssetNumber, ReferenceIdentity,
             UploadId is long upload ? new ReadingsSummary(upload, ReadingCount ?? 0, Sha256 ?? "", Uploads) : null,
             Version, RetiredAt is null ? null : Timestamps.Parse(RetiredAt), RetiredReason, Timestamps.Parse(CreatedAt), CreatedBy,

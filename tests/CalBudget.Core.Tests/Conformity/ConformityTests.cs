@@ -127,3 +127,20 @@ public class ConformityTests
         Assert.True(d < (int)Math.Ceiling((1e-9 - 2e-10) / b));
     }
 }
+
+public class StudentConformityTests
+{
+    [Fact]
+    public void ATResultAtItsOwnCoverageLimitHasTheTablesProbability()
+    {
+        // JCGM 100 Table G.2: t_95(10) = 2.23 (2.228139 to more digits, the two-sided 95 % point): with one upper limit at
+        // y + 2.228139 u, p_c = 0.975 for a t-distribution with 10 degrees of freedom
+        var limits = ToleranceLimits.Create(null, 2.228139e-9);
+        Check.Relative(0.975, ConformityAssessment.ProbabilityOfConformity(0, 1e-9, 10, limits), 1e-6, "p_c, t with nu = 10");
+        // the normal form gives more: Phi(2.228139) = 0.98707 (computed), so a finite nu lowers p_c
+        Assert.True(ConformityAssessment.ProbabilityOfConformity(0, 1e-9, limits) > 0.987);
+        // Decide uses the t when given nu, the normal otherwise
+        var d = ConformityAssessment.Decide(0, 1e-9, 2.3e-9, limits, DecisionRule.SimpleAcceptance, 10);
+        Check.Relative(0.975, d.ProbabilityOfConformity, 1e-6, "Decide with nu");
+    }
+}
