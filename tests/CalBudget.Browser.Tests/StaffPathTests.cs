@@ -98,6 +98,8 @@ public sealed class StaffPathTests(BrowserHost host) : IClassFixture<BrowserHost
         await tech.GetByRole(AriaRole.Link, new() { Name = "Record a calibration run" }).ClickAsync();
         await tech.GetByLabel("Started (UTC").FillAsync("2026-11-30T09:00:00Z");
         await tech.GetByLabel("Ambient temperature").FillAsync("23.1");
+        await tech.GetByLabel("Its variation over the run").FillAsync("0.3");
+        await tech.GetByLabel("Powered on before the run").FillAsync("120");
         await tech.GetByLabel("Readings (CSV").SetInputFilesAsync(new FilePayload { Name = "counter.csv", MimeType = "text/csv", Buffer = Encoding.UTF8.GetBytes(Csv()) });
         await tech.GetByRole(AriaRole.Button, new() { Name = "Record the run" }).ClickAsync();
         await Assertions.Expect(tech.GetByRole(AriaRole.Heading, new() { Name = "Frequency stability" })).ToBeVisibleAsync();
@@ -108,6 +110,10 @@ public sealed class StaffPathTests(BrowserHost host) : IClassFixture<BrowserHost
         await tech.GetByLabel("Template").SelectOptionAsync("ocxo-counter");
         await tech.GetByRole(AriaRole.Button, new() { Name = "Build" }).ClickAsync();
         await Assertions.Expect(tech.Locator(".state")).ToHaveTextAsync("draft");
+        // both results, each with its own table: the calibration result and the labelled in-use prediction
+        await Assertions.Expect(tech.Locator("dl.facts")).ToContainTextAsync("In-use prediction (not the uncertainty of the calibration result)");
+        await Assertions.Expect(tech.GetByRole(AriaRole.Heading, new() { Name = "Calibration result: contributions" })).ToBeVisibleAsync();
+        await Assertions.Expect(tech.GetByRole(AriaRole.Heading, new() { Name = "In-use prediction: contributions" })).ToBeVisibleAsync();
         string budgetUrl = tech.Url;
         await Assertions.Expect(tech.GetByRole(AriaRole.Button, new() { Name = "Approve" })).ToHaveCountAsync(0); // not an approver
 

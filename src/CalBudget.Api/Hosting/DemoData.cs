@@ -47,7 +47,7 @@ public static class DemoData
         {
             var (asset, customer, maker, model, kind, tolerance, gamma) = Instruments[index];
             var spec = new TimebaseSpecificationDto(new ToleranceDto(-tolerance, tolerance, "one year after calibration, 23 +/- 5 degC"),
-                kind switch { "XO" or "TCXO" => 1e-9, "OCXO" => 1e-11, "rubidium" => 2e-12, _ => 0 }, null, kind == "XO" ? 1e-8 : 1e-10, new RangeDto(0, 50), gamma, kind is "rubidium" or "OCXO" ? 30 : 5, kind switch { "OCXO" => 5e-9, "rubidium" => 5e-11, _ => null });
+                kind switch { "XO" or "TCXO" => 1e-9, "OCXO" => 1e-11, "rubidium" => 2e-12, _ => 0 }, null, kind switch { "XO" => 1e-8, "OCXO" => 1e-11, _ => 1e-10 }, new RangeDto(0, 50), gamma, kind is "rubidium" or "OCXO" ? 30 : 5, kind switch { "OCXO" => 5e-9, "rubidium" => 5e-11, _ => null });
             NamedPosture[] postures =
             [
                 new("standing on its feet", 0, 0, 1),
@@ -88,8 +88,8 @@ public static class DemoData
             var posture = r.Up is null ? instrument.Fields.Postures.First(p => p.Name == r.Posture) : null;
             double[] up = posture is null ? r.Up! : [posture.X, posture.Y, posture.Z];
             var run = await CalibrationRunStore.CreateAsync(work, new CalibrationRunFields(instrument.Id, r.Reference, "lab counter C-3 (invented)",
-                r.Frequency ? 1e-12 / r.Gate : 1e-13, r.Gate, posture?.Name, up[0], up[1], up[2], new RunEnvironment(23.1, 0.4, 41, "230 V 50 Hz mains"),
-                r.Condition, start, start.AddSeconds(r.Gate * r.Count), $"Demo run (synthetic readings), {r.Count} readings of {r.Gate} s."), Actor, now);
+                r.Frequency ? 1e-12 / r.Gate : 1e-13, r.Gate, posture?.Name, up[0], up[1], up[2], new RunEnvironment(23.1, 0.2, 41, "230 V 50 Hz mains"),
+                r.Condition, start, start.AddSeconds(r.Gate * r.Count), $"Demo run (synthetic readings), {r.Count} readings of {r.Gate} s.", WarmUpMinutes: 240), Actor, now);
             string csv = SyntheticCsv(start, r.Gate, r.Count, r.Offset, r.WhiteFm, r.Frequency, instrument.Fields.NominalFrequencyHz, r.Seed);
             await UploadAsync(work, run.Id, null, null, csv, instrument.Fields.NominalFrequencyHz, now, ct);
             if (r.Seed == 44)

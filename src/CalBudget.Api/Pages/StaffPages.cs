@@ -366,6 +366,8 @@ public static class StaffPages
         double? Number(string field, string api) => FormNumber(values, field, api, errors);
 
         double? resolution = Number("resolution", "comparator.resolution"), gate = Number("gate", "gateTimeSeconds"), temperature = Number("temperature", "environment.temperatureCelsius");
+        double? variation = Number("variation", "environment.temperatureVariationKelvin"), warmUp = Number("warmUp", "warmUpMinutes"),
+            systematic = Number("systematic", "comparator.systematicError");
         DateTimeOffset? started = null;
         if (values.GetValueOrDefault("startedAt", "").Trim() is { Length: > 0 } s)
         {
@@ -388,8 +390,8 @@ public static class StaffPages
         if (errors.Count == 0)
         {
             var request = new CalibrationRunRequest(id, long.TryParse(values.GetValueOrDefault("referenceId"), CultureInfo.InvariantCulture, out long r) ? r : null,
-                new ComparatorDto(values.GetValueOrDefault("comparator"), resolution), gate, new RunPostureDto(values.GetValueOrDefault("posture"), null),
-                new EnvironmentDto(temperature, null, null, null), values.GetValueOrDefault("condition", "as-found"), started, null, null);
+                new ComparatorDto(values.GetValueOrDefault("comparator"), resolution, systematic), gate, new RunPostureDto(values.GetValueOrDefault("posture"), null),
+                new EnvironmentDto(temperature, variation, null, null), values.GetValueOrDefault("condition", "as-found"), started, null, null, warmUp);
             var created = await CalibrationsApi.Create(request, http, database, time, json, null, ct);
             if (ValueOf<CalibrationRunDto>(created) is { } run)
             {
