@@ -268,3 +268,31 @@ public sealed class TwoResultsTests : IDisposable
         Assert.Equal(["priorResults[0].coverageFactor"], Json.ErrorFields(problem));
     }
 }
+
+public sealed class LabScopeTests
+{
+    [Theory]
+    [InlineData("{", "$")]
+    [InlineData("""{ "capabilities": 3 }""", "capabilities")]
+    [InlineData("""{ "capabilities": [ { "id": "x", "quantity": "q", "oscillatorKinds": ["maser"], "nominalFrequencyHz": { "min": 1, "max": 2 }, "fractionalOffset": { "min": -1, "max": 1 }, "expandedUncertainty": 1e-12, "coverageFactor": 2, "conditions": "c" } ] }""", "capabilities[0].oscillatorKinds[0]")]
+    [InlineData("""{ "capabilities": [ { "id": "x", "quantity": "q", "oscillatorKinds": ["OCXO"], "nominalFrequencyHz": { "min": 2, "max": 1 }, "fractionalOffset": { "min": -1, "max": 1 }, "expandedUncertainty": 1e-12, "coverageFactor": 2, "conditions": "c" } ] }""", "capabilities[0].nominalFrequencyHz")]
+    [InlineData("""{ "capabilities": [ { "id": "x", "quantity": "q", "oscillatorKinds": ["OCXO"], "nominalFrequencyHz": { "min": 1, "max": 2 }, "fractionalOffset": { "min": -1, "max": 1 }, "expandedUncertainty": 0, "coverageFactor": 2, "conditions": "c" } ] }""", "capabilities[0].expandedUncertainty")]
+    [InlineData("""{ "capabilities": [ { "quantity": "q", "oscillatorKinds": ["OCXO"], "nominalFrequencyHz": { "min": 1, "max": 2 }, "fractionalOffset": { "min": -1, "max": 1 }, "expandedUncertainty": 1e-12, "coverageFactor": 2, "conditions": "c" } ] }""", "capabilities[0].id")]
+    public void AMalformedScopeIsRefusedNamingTheField(string text, string field)
+    {
+        var ex = Assert.Throws<CalBudget.Api.Budgets.TemplateException>(() => CalBudget.Api.Budgets.LabScope.Read(Encoding.UTF8.GetBytes(text)));
+        Assert.Equal("scope.json", ex.File);
+        Assert.Equal(field, ex.Field);
+    }
+
+    [Fact]
+    public void TheShippedScopeCoversTheQuartzAndAtomicClassesOnly()
+    {
+        var scope = CalBudget.Api.Budgets.LabScope.Load(System.IO.Path.Combine(AppContext.BaseDirectory, "templates"));
+        Assert.Equal("tf-quartz", scope.Covering("OCXO", 10e6, 3e-9)!.Id);
+        Assert.Equal("tf-atomic", scope.Covering("rubidium", 10e6, 1e-11)!.Id);
+        Assert.Null(scope.Covering("XO", 32768, 0));          // below 1 MHz
+        Assert.Null(scope.Covering("rubidium", 10e6, 1e-7));   // an offset beyond the atomic range
+        Assert.Null(scope.Covering("other", 10e6, 0));
+    }
+}

@@ -96,7 +96,7 @@ public static class CertificateComposer
             conformity = [RuleWords(ruleRequest.Kind!, d.GuardBand, stated.ExpandedUncertainty, ruleRequest.GuardBandMultiple ?? 1),
                 $"Tolerance: {ToleranceWords(limits)}{(f.Settings.Tolerance is null ? $" (the instrument's specification{(spec.Tolerance?.Conditions is { Length: > 0 } cond ? ", " + cond : "")})" : "")}. " +
                 "The decision is made on the calibration result and its expanded uncertainty; aging and the conditions of use are not added to it.",
-                $"Outcome: {ConformityAssessment.Words(d.Outcome).ToUpperInvariant()}. Probability of conformity p_c = {Probability(pc)} {from}" +
+                $"Outcome: {ConformityAssessment.Words(d.Outcome).ToUpperInvariant()}. Probability of conformity p_c {Probability(pc)} {from}" +
                 (governs != "Monte Carlo" && mcConformity is { } m ? $"; {Probability(m)} from the budget's Monte Carlo distribution" : "") + "." +
                 (d.TestUncertaintyRatio is { } tur ? $" Test uncertainty ratio (T_U - T_L) / 2U = {tur.ToString("0.0", C)} : 1." : "") +
                 (ruleRequest.LowRatioReason is { Length: > 0 } why ? $" Simple acceptance below the laboratory's minimum ratio of {minimumRatio.ToString("0.#", C)} : 1 was chosen because: {why}" : "")];
@@ -150,13 +150,13 @@ public static class CertificateComposer
                 $"which for a t-distribution with {DegreesWords(stated.EffectiveDegreesOfFreedom)} effective degrees of freedom corresponds to a coverage probability of approximately {(stated.CoverageProbability * 100).ToString("0.##", C)} %. " +
                 "It covers the measurement on the calibration date in the posture and conditions stated: the reference, the comparator, the readings' scatter and the environment during the run; " +
                 "it does not include aging or the conditions of later use, which the in-use prediction states separately." +
-                (f.Calibration is { } cal ? " " + (cal.WithinScope ? cal.Capability : cal.Capability) : "") +
-                (stated.Governs == "Monte Carlo" && stated.CoverageInterval is { } ci ? $" The GUM result was not validated by the Monte Carlo method (JCGM 101 clause 8): the Monte Carlo coverage interval [{Sig(ci[0])}, {Sig(ci[1])}] is the result's coverage interval." : ""),
+                (f.Calibration is { } cal ? (cal.WithinScope ? " Within the laboratory's scope: " : " ") + cal.Capability : "") +
+                (stated.Governs == "Monte Carlo" && stated.CoverageInterval is { } ci ? $" The GUM result was not validated by the Monte Carlo method (JCGM 101 clause 8): the Monte Carlo coverage interval {IntervalWords(ci[0], ci[1])} is the result's coverage interval." : ""),
             Budget = BudgetRows(f.Lines.Where(l => l.Stage != "in-use").ToArray(), r),
             Prediction = PredictionWords(f),
             BudgetSummary = [$"Combined standard uncertainty u_c = {Sig(r.CombinedStandardUncertainty)}; effective degrees of freedom {DegreesWords(r.EffectiveDegreesOfFreedom)}; " +
                 $"k = {r.CoverageFactor.ToString("0.00", C)}; U = {Sig(r.ExpandedUncertainty)}. Budget {f.Version.BudgetId} version {f.Version.Number} (template {f.Lines.Count} lines, engine {f.Version.EngineVersion})."
-                + (r.MonteCarlo is { } mc ? $" Monte Carlo (JCGM 101, {mc.Trials.ToString("N0", C)} trials): u = {Sig(mc.StandardUncertainty)}, {(stated.CoverageProbability * 100).ToString("0.##", C)} % interval [{Sig(mc.CoverageInterval[0])}, {Sig(mc.CoverageInterval[1])}]." : "")
+                + (r.MonteCarlo is { } mc ? $" Monte Carlo (JCGM 101, {mc.Trials.ToString("N0", C)} trials): u = {Sig(mc.StandardUncertainty)}, {(stated.CoverageProbability * 100).ToString("0.##", C)} % interval {IntervalWords(mc.CoverageInterval[0], mc.CoverageInterval[1])}." : "")
                 + (f.Calibration is { CmcApplied: true } cmc ? $" The budget's U is below the laboratory's CMC for this range (U = {Sig(cmc.CmcExpandedUncertainty ?? 0)}), so the CMC is stated (ILAC-P14)." : "")],
             Conformity = conformity,
             Recall = recallWords,
@@ -299,7 +299,17 @@ public static class CertificateComposer
             "It is a prediction from the stated assumptions and the data named in the budget; it does not replace a calibration."];
     }
 
-    private static string Probability(double p) => p > 0.99995 ? "> 0.9999" : p < 0.00005 ? "< 0.0001" : p.ToString("0.0000", C);
+    private static string Probability(double p) => p > 0.99995 ? "> 0.9999" : p < 0.00005 ? "< 0.0001" : "= " + p.ToString("0.0000", C);
+
+    // An interval's ends to the decimal place of two significant digits of its half-width (JCGM 100 7.2.6), in one power of ten.
+    private static string IntervalWords(double low, double high)
+    {
+        var rounded = StatementRounding.Round((low + high) / 2, (high - low) / 2);
+        int decimals = Math.Max(0, rounded.DisplayExponent - rounded.LastDigitExponent);
+        double scale = Math.Pow(10, -rounded.DisplayExponent);
+        string fmt = "F" + decimals.ToString(C);
+        return $"[{(low * scale).ToString(fmt, C)}, {(high * scale).ToString(fmt, C)}] × 10^{rounded.DisplayExponent.ToString(C)}";
+    }
 
     private static List<ResultLine> ResultLines(CertificateFacts f, StatedResult measured)
     {
