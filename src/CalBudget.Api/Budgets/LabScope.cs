@@ -52,24 +52,15 @@ public sealed class LabScope
     /// <summary>Reads <c>scope.json</c> of <paramref name="directory"/>; throws <see cref="TemplateException"/> naming the field.</summary>
     public static LabScope Load(string directory)
     {
-        string path = Path.Combine(directory, "scope.json");
+        string path = Path.Combine(directory, TemplateCatalog.ScopeFile);
         return File.Exists(path) ? Read(File.ReadAllBytes(path)) : new LabScope("no scope declared", []);
     }
 
     /// <summary>Reads a scope file's bytes.</summary>
     public static LabScope Read(byte[] bytes)
     {
-        const string file = "scope.json";
-        JsonElement root;
-        try
-        {
-            using var document = JsonDocument.Parse(bytes);
-            root = document.RootElement.Clone();
-        }
-        catch (JsonException ex)
-        {
-            throw new TemplateException(file, ex.Path ?? "$", "Not valid JSON: " + ex.Message.Split(" Path:", 2)[0]);
-        }
+        const string file = TemplateCatalog.ScopeFile;
+        var root = TemplateCatalog.Parse(file, bytes);
 
         string title = root.ValueKind == JsonValueKind.Object && root.TryGetProperty("title", out var t) && t.ValueKind == JsonValueKind.String ? t.GetString()! : "scope";
         if (root.ValueKind != JsonValueKind.Object || !root.TryGetProperty("capabilities", out var list) || list.ValueKind != JsonValueKind.Array)

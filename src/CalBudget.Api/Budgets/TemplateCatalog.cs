@@ -92,23 +92,7 @@ public sealed partial class TemplateCatalog
     {
         ArgumentNullException.ThrowIfNull(file);
         ArgumentNullException.ThrowIfNull(bytes);
-        // the reader checks UTF-8 only in the parts it decodes; a bad sequence in a name would surface later as another exception
-        if (!System.Text.Unicode.Utf8.IsValid(bytes))
-        {
-            throw new TemplateException(file, "$", "Not UTF-8 text.");
-        }
-
-        JsonElement root;
-        try
-        {
-            using var document = JsonDocument.Parse(bytes);
-            root = document.RootElement.Clone();
-        }
-        catch (JsonException ex)
-        {
-            throw new TemplateException(file, ex.Path ?? "$", "Not valid JSON: " + ex.Message.Split(" Path:", 2)[0]);
-        }
-
+        var root = Parse(file, bytes);
         if (root.ValueKind != JsonValueKind.Object)
         {
             throw new TemplateException(file, "$", "A template is a JSON object.");
@@ -192,6 +176,26 @@ public sealed partial class TemplateCatalog
             : contributions.Any(x => x.Stage == BudgetStage.InUse) ? throw new TemplateException(file, "holdDays", "Required with in-use lines: the prediction's hold period after calibration, days.")
             : 0;
         return new BudgetTemplate(id, version, title, applies, p, contributions, hold);
+    }
+
+    /// <summary>A lab file's JSON, or a <see cref="TemplateException"/> naming the file and where it breaks.</summary>
+    internal static JsonElement Parse(string file, byte[] bytes)
+    {
+        // the reader checks UTF-8 only in the parts it decodes; a bad sequence in a name would surface later as another exception
+        if (!System.Text.Unicode.Utf8.IsValid(bytes))
+        {
+            throw new TemplateException(file, "$", "Not UTF-8 text.");
+        }
+
+        try
+        {
+            using var document = JsonDocument.Parse(bytes);
+            return document.RootElement.Clone();
+        }
+        catch (JsonException ex)
+        {
+            throw new TemplateException(file, ex.Path ?? "$", "Not valid JSON: " + ex.Message.Split(" Path:", 2)[0]);
+        }
     }
 
     private static TemplateContribution WarmUp(string file, JsonElement c, string at, string name)

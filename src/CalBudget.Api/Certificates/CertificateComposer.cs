@@ -25,7 +25,7 @@ public sealed record CertificateFacts(string Number, DateTimeOffset IssuedAt, st
     /// <summary>The as-found calibration result as the version states it (CMC floor, governing evaluation); from <see cref="Result"/> when not given.</summary>
     public StatedResult? AsFound { get; init; }
 
-    /// <summary>The stated calibration result's scope and CMC, when the version keeps them.</summary>
+    /// <summary>The stated (as-left when adjusted) calibration result's scope and CMC, when its version keeps them.</summary>
     public CalibrationResultDto? Calibration { get; init; }
 
     /// <summary>The in-use prediction of the stated result's version, when it has one.</summary>

@@ -294,6 +294,7 @@ public static class CertificatesApi
         var asFound = Stated(run.Fields.StartedAt, result, stages?.Calibration);
         StatedResult? asLeft = null;
         var prediction = stages?.Prediction;
+        var calibration = stages?.Calibration;
         if (request.Adjusted == true)
         {
             var left = await ApprovedAsync(work, request.AsLeftBudgetId!.Value, request.AsLeftVersion!.Value, "asLeft", json);
@@ -306,6 +307,7 @@ public static class CertificatesApi
             var leftStages = StoredBudgetsApi.Stages(left.Value.Value.Version, json);
             asLeft = Stated(leftRun.Fields.StartedAt, left.Value.Value.Result, leftStages?.Calibration);
             prediction = leftStages?.Prediction;
+            calibration = leftStages?.Calibration;
         }
 
         var instrument = (await InstrumentStore.GetAsync(work, run.Fields.InstrumentId))!;
@@ -322,7 +324,7 @@ public static class CertificatesApi
             evaluate, result, asLeft, await SensitivityTestStore.LatestAsync(work, instrument.Id), history, replaces?.Number, note)
         {
             AsFound = asFound,
-            Calibration = asLeft is null ? stages?.Calibration : null,
+            Calibration = calibration,
             Prediction = prediction,
         };
         ComposedCertificate composed;
