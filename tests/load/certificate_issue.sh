@@ -1,6 +1,6 @@
 #!/usr/bin/env bash
 # Figure for POST /api/v1/certificates (README, "Performance"): publishes the service, starts it in Development (demo
-# records), builds and approves the budget of demo run 1 (600 readings, Monte Carlo 1e5 trials), then issues N two-page
+# records), builds and approves the budget of demo run 1 (600 readings, Monte Carlo 1e5 trials), then issues N three-page
 # certificates with both plots (default 300) one after another with curl on loopback and prints the median and p99.
 set -euo pipefail
 cd "$(dirname "$0")/../.."
