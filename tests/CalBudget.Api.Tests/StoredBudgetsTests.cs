@@ -131,7 +131,11 @@ public sealed class StoredBudgetsTests : IDisposable
         var v = budget["latest"]!;
         Assert.Equal("draft", v["state"]!.GetValue<string>());
         var (mean, sdom) = TypeA(y);
-        Assert.Contains("StandardDeviationOfMean", v["lines"]!.AsArray().Single(l => l!["name"]!.GetValue<string>() == "repeatability")!["source"]!.GetValue<string>(), StringComparison.Ordinal);
+        var typeA = v["lines"]!.AsArray().Single(l => l!["name"]!.GetValue<string>() == "repeatability")!;
+        Assert.Contains("StandardDeviationOfMean", typeA["source"]!.GetValue<string>(), StringComparison.Ordinal);
+        // a finite nu (n - 1 = 199) makes the Type A input a scaled, shifted t for Monte Carlo (JCGM 101 6.4.9)
+        Assert.Equal("student-t", typeA["input"]!["distribution"]!.GetValue<string>());
+        Assert.Equal(199, typeA["input"]!["degreesOfFreedom"]!.GetValue<double>());
         // the calibration result: the measurement's own contributions only
         var calibration = QuartzCalibration(sdom);
         calibration["warm-up"] = 0;
@@ -178,6 +182,36 @@ public sealed class StoredBudgetsTests : IDisposable
             ["supply"] = 1e-8 / Math.Sqrt(3),
         }, mean + ReferenceEstimate);
         Assert.Contains("in the posture of use with up vector (-1, 0, 0)", budget["latest"]!["prediction"]!["statement"]!.GetValue<string>(), StringComparison.Ordinal);
+        // the value stated for the calibration posture does not move; the prediction carries the posture of use
+        Assert.Equal(budget["latest"]!["result"]!["estimate"]!.GetValue<double>(), budget["latest"]!["calibrationResult"]!["estimate"]!.GetValue<double>());
+    }
+
+    [Fact]
+    public async Task AVersionMadeBeforeTheTwoResultsStaysReadableWithItsOneResult()
+    {
+        var (tech, run, _) = await RunAsync("OCXO", "CB-0060");
+        var budget = await Json.PostAsync(tech, "/api/v1/budgets", Build(run, "ocxo-counter"), HttpStatusCode.Created);
+        string result = budget["latest"]!["result"]!.ToJsonString();
+        // what a version of before migration 0011 looks like: no stages (the trigger that fixes them goes first)
+        using (var connection = new SqliteConnection($"Data Source={System.IO.Path.Combine(_factory.DataDirectory, "calbudget.db")}"))
+        {
+            connection.Open();
+            using var command = connection.CreateCommand();
+            command.CommandText = "DROP TRIGGER budget_versions_stages_fixed; UPDATE budget_versions SET stages = NULL;";
+            command.ExecuteNonQuery();
+        }
+
+        var old = await Json.ReadAsync(await tech.GetAsync($"/api/v1/budgets/{budget["id"]}/versions/1"), HttpStatusCode.OK);
+        Assert.Equal(result, old["result"]!.ToJsonString());
+        Assert.Null(old["calibrationResult"]);
+        Assert.Null(old["prediction"]);
+        var approver = await _factory.ClientAsync("approver", holder: "lee");
+        await Json.PostAsync(approver, $"/api/v1/budgets/{budget["id"]}/versions/1/approve", "{}", HttpStatusCode.OK);
+        var cert = await Json.PostAsync(tech, "/api/v1/certificates",
+            $$"""{ "budgetId": {{budget["id"]}}, "version": 1, "receivedAt": "2026-11-27T00:00:00Z", "itemCondition": "no visible damage" }""", HttpStatusCode.Created);
+        Assert.Equal(old["result"]!["expandedUncertainty"]!.GetValue<double>(), cert["result"]!["expandedUncertainty"]!.GetValue<double>());
+        var page = await (await _factory.ClientAsync("auditor")).GetAsync($"/api/v1/budgets/{budget["id"]}");
+        Assert.Equal(HttpStatusCode.OK, page.StatusCode);
     }
 
     [Fact]

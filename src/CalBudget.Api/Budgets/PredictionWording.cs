@@ -13,7 +13,7 @@ public static class PredictionWording
 
     /// <summary>Every assumption the prediction rests on, one phrase each.</summary>
     public static IReadOnlyList<string> Assumptions(BudgetTemplate template, IReadOnlyList<BudgetLineDto> lines, PosturePolicy policy, CalibrationRunFields run,
-        TimebaseSpecificationDto spec, AgingHistory? aging, DateTimeOffset until)
+        TimebaseSpecificationDto spec, AgingHistory? aging, DateTimeOffset until, IReadOnlyList<Data.Instruments.NamedPosture>? postures = null)
     {
         ArgumentNullException.ThrowIfNull(template);
         ArgumentNullException.ThrowIfNull(lines);
@@ -25,7 +25,7 @@ public static class PredictionWording
         var words = new List<string> { $"until {until:yyyy-MM-dd} ({template.HoldDays.ToString("G6", C)} days after calibration)" };
         words.Add(policy.Kind switch
         {
-            "known" => $"in the posture of use with up vector ({Vec(policy.UseUp!.Value)}), its shift from the calibration posture corrected",
+            "known" => $"in the posture of use {Named(policy.UseUp!.Value, postures)}with up vector ({Vec(policy.UseUp!.Value)}), its shift from the calibration posture corrected",
             "tilt-limit" => $"within {policy.TiltLimitDegrees!.Value.ToString("G4", C)}° of the calibration posture",
             "any" => "in any orientation",
             _ => "in the calibration posture",
@@ -66,6 +66,14 @@ public static class PredictionWording
         var rounded = StatementRounding.Round(predicted.Estimate, predicted.ExpandedUncertainty);
         return $"In-use prediction (not the uncertainty of the calibration result): {rounded.ToScientific()} (k = {predicted.CoverageFactor.ToString("0.00", C)}, " +
             $"about {(predicted.CoverageProbability * 100).ToString("0.##", C)} %), {string.Join(", ", assumptions)}.";
+    }
+
+    // the instrument's own name for a posture of use, when one of its postures has that up vector
+    private static string Named(Core.Orientation.Vector3D up, IReadOnlyList<Data.Instruments.NamedPosture>? postures)
+    {
+        var unit = Core.Orientation.Posture.FromVector(up).Up;
+        var match = postures?.FirstOrDefault(p => (Core.Orientation.Posture.FromVector(new Core.Orientation.Vector3D(p.X, p.Y, p.Z)).Up - unit).Length < 1e-9);
+        return match is null ? "" : $"'{match.Name}' ";
     }
 
     private static string Vec(Core.Orientation.Vector3D v) => $"{(v.X + 0.0).ToString("0.###", C)}, {(v.Y + 0.0).ToString("0.###", C)}, {(v.Z + 0.0).ToString("0.###", C)}";

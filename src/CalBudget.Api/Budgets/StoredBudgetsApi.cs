@@ -459,7 +459,8 @@ public static class StoredBudgetsApi
             }
 
             var until = f.StartedAt.UtcDateTime.Date.AddDays(Math.Ceiling(template.HoldDays));
-            var assumptions = PredictionWording.Assumptions(template, lines, policy, f, spec, specInputs.AgingFit, new DateTimeOffset(until, TimeSpan.Zero));
+            var assumptions = PredictionWording.Assumptions(template, lines, policy, f, spec, specInputs.AgingFit, new DateTimeOffset(until, TimeSpan.Zero),
+                instrument.Fields.Postures);
             prediction = new PredictionDto(template.HoldDays, new DateTimeOffset(until, TimeSpan.Zero), assumptions, PredictionWording.Statement(predicted!, assumptions),
                 lines.Where(l => l.Stage == "in-use").Select(l => l.Name).ToArray(), predict, predicted!);
         }
