@@ -115,7 +115,7 @@ public sealed class CertificatesTests : IDisposable
             "Reference standard RB-CB-0301", "certificate TL-2026-0417", "traceability to national standards", // traceability
             "ambient temperature 23.1 °C ± 0.4 K", "relative humidity 41 %",                               // environment
             "Calibrated standing on its feet: up vector (0, 0, 1)", "gravity along (0, 0, -1)",             // the posture in words and as a vector
-            "on its left side", "upside down", "within ± 2.0E-09",                                          // the other postures and their shift
+            "on its left side", "upside down", "within ± 2.0 × 10⁻⁹",                                        // the other postures and their shift
             "as found", "as left", "no adjustment was made",                                               // results as found and as left
             "coverage factor k = 2.00", "coverage probability of approximately 95.45 %",                    // U with k and p in words
             "reference standard", "comparator", "repeatability", "temperature during the run",             // the budget table (calibration lines)

@@ -1,5 +1,6 @@
 using System.Globalization;
 using System.Text.Json;
+using CalBudget.Core.Gum;
 
 namespace CalBudget.Api.Budgets;
 
@@ -23,7 +24,7 @@ public sealed record Capability(string Id, string Quantity, IReadOnlyList<string
 
     /// <summary>The capability in words for a budget's record and a certificate.</summary>
     public string Words => string.Create(CultureInfo.InvariantCulture,
-        $"CMC {Id}: {Quantity} of {string.Join(", ", OscillatorKinds)} timebases at {NominalMinHz:G4} Hz to {NominalMaxHz:G4} Hz, offsets {OffsetMin:G3} to {OffsetMax:G3}, U = {ExpandedUncertainty:G3} (k = {CoverageFactor:G3}); {Conditions}");
+        $"CMC {Id}: {Quantity} of {string.Join(", ", OscillatorKinds)} timebases at {Notation.Frequency(NominalMinHz)} to {Notation.Frequency(NominalMaxHz)}, offsets {Notation.Value(OffsetMin)} to {Notation.Value(OffsetMax)}, U = {Notation.Uncertainty(ExpandedUncertainty)} (k = {CoverageFactor:G3}); {Conditions}");
 }
 
 /// <summary>

@@ -44,9 +44,9 @@ public static class PredictionWording
         if (Has(ContributionModel.Aging))
         {
             words.Add(aging is { } a
-                ? $"aging as fitted to the instrument's {a.Points} results since {a.Since:yyyy-MM-dd} ({a.RatePerDay.ToString("0.0E+00", C)} per day)"
-                : spec.AgingPerDay is double d ? $"aging within the specified {Math.Abs(d).ToString("0.0E+00", C)} per day, sign unknown"
-                : $"aging within the specified {Math.Abs(spec.AgingPerYear ?? 0).ToString("0.0E+00", C)} per year, sign unknown");
+                ? $"aging as fitted to the instrument's {a.Points} results since {a.Since:yyyy-MM-dd} ({Notation.Uncertainty(a.RatePerDay)} per day)"
+                : spec.AgingPerDay is double d ? $"aging within the specified {Notation.Uncertainty(Math.Abs(d))} per day, sign unknown"
+                : $"aging within the specified {Notation.Uncertainty(Math.Abs(spec.AgingPerYear ?? 0))} per year, sign unknown");
         }
 
         words.Add(Has(ContributionModel.Retrace) ? "after at most one power cycle (the specified retrace)" : "without a power cycle");

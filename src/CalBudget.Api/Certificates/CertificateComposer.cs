@@ -151,12 +151,12 @@ public static class CertificateComposer
                 "It covers the measurement on the calibration date in the posture and conditions stated: the reference, the comparator, the readings' scatter and the environment during the run; " +
                 "it does not include aging or the conditions of later use, which the in-use prediction states separately." +
                 (f.Calibration is { } cal ? (cal.WithinScope ? " Within the laboratory's scope: " : " ") + cal.Capability : "") +
-                (stated.Governs == "Monte Carlo" && stated.CoverageInterval is { } ci ? $" The GUM result was not validated by the Monte Carlo method (JCGM 101 clause 8): the Monte Carlo coverage interval {IntervalWords(ci[0], ci[1])} is the result's coverage interval." : ""),
+                (stated.Governs == "Monte Carlo" && stated.CoverageInterval is { } ci ? $" The GUM result was not validated by the Monte Carlo method (JCGM 101 clause 8): the Monte Carlo coverage interval {Notation.Interval(ci[0], ci[1])} is the result's coverage interval." : ""),
             Budget = BudgetRows(f.Lines.Where(l => l.Stage != "in-use").ToArray(), r),
             Prediction = PredictionWords(f),
             BudgetSummary = [$"Combined standard uncertainty u_c = {Sig(r.CombinedStandardUncertainty)}; effective degrees of freedom {DegreesWords(r.EffectiveDegreesOfFreedom)}; " +
                 $"k = {r.CoverageFactor.ToString("0.00", C)}; U = {Sig(r.ExpandedUncertainty)}. Budget {f.Version.BudgetId} version {f.Version.Number} (template {f.Lines.Count} lines, engine {f.Version.EngineVersion})."
-                + (r.MonteCarlo is { } mc ? $" Monte Carlo (JCGM 101, {mc.Trials.ToString("N0", C)} trials): u = {Sig(mc.StandardUncertainty)}, {(stated.CoverageProbability * 100).ToString("0.##", C)} % interval {IntervalWords(mc.CoverageInterval[0], mc.CoverageInterval[1])}." : "")
+                + (r.MonteCarlo is { } mc ? $" Monte Carlo (JCGM 101, {mc.Trials.ToString("N0", C)} trials): u = {Sig(mc.StandardUncertainty)}, {(stated.CoverageProbability * 100).ToString("0.##", C)} % interval {Notation.Interval(mc.CoverageInterval[0], mc.CoverageInterval[1])}." : "")
                 + (f.Calibration is { CmcApplied: true } cmc ? $" The budget's U is below the laboratory's CMC for this range (U = {Sig(cmc.CmcExpandedUncertainty ?? 0)}), so the CMC is stated (ILAC-P14)." : "")],
             Conformity = conformity,
             Recall = recallWords,
@@ -260,7 +260,7 @@ public static class CertificateComposer
                 }
             }
 
-            basis = $"Shifts from the acceleration-sensitivity vector measured by tip-over test {test.Id} on {test.TestedAt:yyyy-MM-dd}: Gamma = ({Vec(gamma)}) per g; dy = Gamma . (up_use - up_calibration), u from the test's covariance.";
+            basis = $"Shifts from the acceleration-sensitivity vector measured by tip-over test {test.Id} on {test.TestedAt:yyyy-MM-dd}: Gamma = ({VecSci(gamma)}) per g; dy = Gamma . (up_use - up_calibration), u from the test's covariance.";
             foreach (var p in f.Instrument.Fields.Postures.Where(p => p.Name != run.PostureName))
             {
                 var s = OrientationShift.Known(gamma, calibration, Posture.FromVector(new Vector3D(p.X, p.Y, p.Z)), cov);
@@ -300,16 +300,6 @@ public static class CertificateComposer
     }
 
     private static string Probability(double p) => p > 0.99995 ? "> 0.9999" : p < 0.00005 ? "< 0.0001" : "= " + p.ToString("0.0000", C);
-
-    // An interval's ends to the decimal place of two significant digits of its half-width (JCGM 100 7.2.6), in one power of ten.
-    private static string IntervalWords(double low, double high)
-    {
-        var rounded = StatementRounding.Round((low + high) / 2, (high - low) / 2);
-        int decimals = Math.Max(0, rounded.DisplayExponent - rounded.LastDigitExponent);
-        double scale = Math.Pow(10, -rounded.DisplayExponent);
-        string fmt = "F" + decimals.ToString(C);
-        return $"[{(low * scale).ToString(fmt, C)}, {(high * scale).ToString(fmt, C)}] × 10^{rounded.DisplayExponent.ToString(C)}";
-    }
 
     private static List<ResultLine> ResultLines(CertificateFacts f, StatedResult measured)
     {
@@ -371,28 +361,21 @@ public static class CertificateComposer
         _ => "none",
     };
 
-    private static string Hertz(double f) => f switch
-    {
-        >= 1e9 => (f / 1e9).ToString("G6", C) + " GHz",
-        >= 1e6 => (f / 1e6).ToString("G6", C) + " MHz",
-        >= 1e3 => (f / 1e3).ToString("G6", C) + " kHz",
-        _ => f.ToString("G6", C) + " Hz",
-    };
+    private static string Hertz(double f) => Notation.Frequency(f);
 
-    private static string DegreesWords(double? nu) => nu switch
-    {
-        null => "infinite",
-        > 10_000 => "more than 10,000",
-        { } n => n.ToString("0", C),
-    };
+    // the degrees of freedom k was taken from: nu_eff truncated (JCGM 100 G.4.1)
+    private static string DegreesWords(double? nu) => Notation.DegreesOfFreedom(nu);
 
-    // + 0.0 turns a negative zero into zero, so no "-0" is printed.
+    // + 0.0 turns a negative zero into zero, so no "-0" is printed; for unit vectors (postures)
     private static string Vec(Vector3D v) => $"{(v.X + 0.0).ToString("0.###", C)}, {(v.Y + 0.0).ToString("0.###", C)}, {(v.Z + 0.0).ToString("0.###", C)}";
 
-    // A value in scientific notation to three significant digits; an uncertainty to two (JCGM 100 7.2.6).
-    private static string Sci(double v) => v.ToString("0.00E+00", C);
+    // a small vector (Gamma, per g) to significant digits
+    private static string VecSci(Vector3D v) => $"{Notation.Uncertainty(v.X + 0.0)}, {Notation.Uncertainty(v.Y + 0.0)}, {Notation.Uncertainty(v.Z + 0.0)}";
 
-    private static string Sig(double u) => u > 0 && double.IsFinite(u) ? u.ToString("0.0E+00", C) : u.ToString("G3", C);
+    // A value to three significant digits; an uncertainty to two (JCGM 100 7.2.6); one notation throughout (Notation).
+    private static string Sci(double v) => Notation.Value(v);
+
+    private static string Sig(double u) => Notation.Uncertainty(u);
 
     internal static JsonElement Element<T>(T value, JsonSerializerOptions o) => JsonSerializer.SerializeToElement(value, o);
 }

@@ -21,7 +21,7 @@ public sealed record RoundedStatement(double Value, double Uncertainty, int Last
     public int DisplayExponent { get; init; }
 
     /// <summary>
-    /// "(v ± U) × 10^e" in the invariant culture, both numbers with the same number of decimals; plain decimals
+    /// "(v ± U) × 10ᵉ" (a superscript exponent, <see cref="Notation"/>) in the invariant culture, both numbers with the same number of decimals; plain decimals
     /// ("v ± U") when the larger number's first digit lies between 10^-3 and 10^4.
     /// </summary>
     public string ToScientific()
@@ -37,7 +37,7 @@ public sealed record RoundedStatement(double Value, double Uncertainty, int Last
         string fmt = "F" + decimals.ToString(CultureInfo.InvariantCulture);
         string v = (Value * scale).ToString(fmt, CultureInfo.InvariantCulture);
         string u = (Uncertainty * scale).ToString(fmt, CultureInfo.InvariantCulture);
-        return $"({v} ± {u}) × 10^{DisplayExponent.ToString(CultureInfo.InvariantCulture)}";
+        return $"({v} ± {u}) × {Notation.Power(DisplayExponent)}";
     }
 }
 
