@@ -22,15 +22,16 @@ public sealed class TwoResultsTests : IDisposable
 
     // invented records: a timebase of the kind and frequency given, a reference with a small U, one run with readings
     private async Task<Made> RunAsync(string asset, string kind = "OCXO", double nominalHz = 10e6, string spec = "", double sigma = 1e-13, string runExtra = "",
-        string environment = """{ "temperatureCelsius": 23.0, "temperatureVariationKelvin": 0.2 }""", double resolution = 1e-12)
+        string environment = """{ "temperatureCelsius": 23.0, "temperatureVariationKelvin": 0.2 }""", double resolution = 1e-12, bool noAging = false)
     {
+        string aging = noAging ? "" : "\"agingPerDay\": 1e-11, ";
         var tech = await _factory.ClientAsync("technician", holder: "kim");
         var approver = await _factory.ClientAsync("approver", holder: "ola");
         string instrument = $$"""
         { "assetNumber": "{{asset}}", "customer": "Fenwick Marine Electronics", "manufacturer": "Quillon Instruments", "model": "FC-900",
           "timebase": { "oscillatorKind": "{{kind}}", "nominalFrequencyHz": {{nominalHz.ToString(CultureInfo.InvariantCulture)}},
             "specification": { "tolerance": { "lower": -2e-8, "upper": 2e-8, "conditions": "one year after calibration, 23 ± 5 °C" },
-              "agingPerDay": 1e-11, "temperatureCoefficientPerKelvin": 1e-13, "accelerationSensitivityPerG": 1e-9, "retrace": 2e-9{{spec}} } },
+              {{aging}}"temperatureCoefficientPerKelvin": 1e-13, "accelerationSensitivityPerG": 1e-9, "retrace": 2e-9{{spec}} } },
           "postures": [ { "name": "standing on its feet", "up": "+z" } ] }
         """;
         long instrumentId = (await Json.PostAsync(tech, "/api/v1/instruments", instrument, HttpStatusCode.Created))["id"]!.GetValue<long>();
@@ -247,13 +248,21 @@ public sealed class TwoResultsTests : IDisposable
                                 { "date": "2024-11-30T00:00:00Z", "fractionalOffset": -4.3e-9, "expandedUncertainty": 6e-10, "adjusted": {{(!adjustedLast).ToString().ToLowerInvariant()}} },
                                 { "date": "2025-11-30T00:00:00Z", "fractionalOffset": -0.65e-9, "expandedUncertainty": 6e-10, "adjusted": {{adjustedLast.ToString().ToLowerInvariant()}} } ] }
             """;
-        // adjusted a year ago: that result and this one are too few for a fit
-        var refused = await Json.ProblemAsync(await m.Tech.PostAsync("/api/v1/certificates", Json.Body(Body(true))), HttpStatusCode.UnprocessableEntity);
-        Assert.Equal(["recallInterval"], Json.ErrorFields(refused));
-        Assert.Contains("since the last adjustment", refused["errors"]!["recallInterval"]![0]!.GetValue<string>(), StringComparison.Ordinal);
-        // adjusted two years ago: three results from there on
+        // adjusted two years ago: three results from there on, fitted
         var cert = await Json.PostAsync(m.Tech, "/api/v1/certificates", Body(false), HttpStatusCode.Created);
         Assert.Contains("3 points since the last adjustment", cert["recall"]!["method"]!.GetValue<string>(), StringComparison.Ordinal);
+        // adjusted a year ago: that result and this one are too few for a fit, so the specified aging (1e-11 per day) bounds it
+        long again = await ApprovedAsync(await RunAsync("CB-0613", sigma: 3e-12));
+        var fromSpec = await Json.PostAsync(m.Tech, "/api/v1/certificates", Body(true).Replace($"\"budgetId\": {budget}", $"\"budgetId\": {again}", StringComparison.Ordinal), HttpStatusCode.Created);
+        Assert.StartsWith("Predictive from the specification", fromSpec["recall"]!["method"]!.GetValue<string>(), StringComparison.Ordinal);
+
+        // neither a fit nor a specified aging: refused naming the field
+        var bare = await RunAsync("CB-0614", kind: "GNSS-disciplined", sigma: 3e-12, noAging: true);
+        long bareBudget = await ApprovedAsync(bare, "gnss-reference");
+        var refused = await Json.ProblemAsync(await bare.Tech.PostAsync("/api/v1/certificates", Json.Body(Body(true).Replace($"\"budgetId\": {budget}", $"\"budgetId\": {bareBudget}", StringComparison.Ordinal))),
+            HttpStatusCode.UnprocessableEntity);
+        Assert.Equal(["recallInterval"], Json.ErrorFields(refused));
+        Assert.Contains("since the last adjustment", refused["errors"]!["recallInterval"]![0]!.GetValue<string>(), StringComparison.Ordinal);
     }
 
     [Fact]

@@ -119,13 +119,16 @@ public static class CertificateComposer
                 throw new MetrologyException("tolerance", "A recall interval needs tolerance limits: give them, or record them in the instrument's specification.");
             }
 
-            if (fit is null)
+            double? specifiedRate = spec.AgingPerDay ?? spec.AgingPerYear / 365.25;
+            if (fit is null && specifiedRate is null)
             {
-                throw new MetrologyException("recallInterval", $"A recall interval needs an aging fit: at least three dated results since the last adjustment (this one and priorResults or earlier certificates); there are {history.Length}.") { NotComputable = true };
+                throw new MetrologyException("recallInterval", $"A recall interval needs an aging fit (at least three dated results since the last adjustment: this one and priorResults or earlier certificates; there are {history.Length}) or the instrument's specified aging.") { NotComputable = true };
             }
 
-            var found = RecallInterval.Find(fit, Day(stated.CalibratedAt), stated.Estimate, stated.StandardUncertainty, stated.CoverageFactor, limits, recallRequest.LongestDays ?? 730,
-                fit.ResidualStandardDeviation);
+            var found = fit is not null
+                ? RecallInterval.Find(fit, Day(stated.CalibratedAt), stated.Estimate, stated.StandardUncertainty, stated.CoverageFactor, limits, recallRequest.LongestDays ?? 730,
+                    fit.ResidualStandardDeviation)
+                : RecallInterval.FromSpecification(stated.Estimate, stated.StandardUncertainty, stated.CoverageFactor, limits, recallRequest.LongestDays ?? 730, specifiedRate!.Value);
             DateTimeOffset? date = found.Days is { } days ? stated.CalibratedAt.UtcDateTime.Date.AddDays(days) : null;
             recall = new StoredRecall(found.Days, date is null ? null : new DateTimeOffset(date.Value.DateTime, TimeSpan.Zero), found.LongestDays, found.Method);
             recallWords = [found.Days is { } dd

@@ -312,6 +312,11 @@ public static class CertificatesApi
 
         var instrument = (await InstrumentStore.GetAsync(work, run.Fields.InstrumentId))!;
         var reference = (await ReferenceStandardStore.GetAsync(work, run.Fields.ReferenceId))!;
+        if (await CheckAtIssueAsync(work, request, replaces, run, reference, now) is { } refused)
+        {
+            return refused;
+        }
+
         var spec = JsonSerializer.Deserialize<TimebaseSpecificationDto>(instrument.Fields.SpecificationJson, o)!;
         double[] values = version.ReadingUploadId is { } uploadId ? await readings.FractionalOffsetsAsync(uploadId, ct) : [];
 
@@ -352,6 +357,94 @@ public static class CertificatesApi
 
         await work.CommitAsync(ct);
         return TypedResults.Created($"/api/v1/certificates/{id}", dto);
+    }
+
+    /// <summary>
+    /// What must hold at the moment of issue, each refusal naming the field: receipt before calibration before issue, none
+    /// in the future (the service's clock); the reference usable on the run's date; one certificate in force per budget
+    /// version (an amendment replaces it); an as-left result of the same instrument, made after the as-found run with a
+    /// usable reference; and no as-found-only certificate when the records hold an as-left run of the same calibration.
+    /// </summary>
+    private static async Task<ProblemHttpResult?> CheckAtIssueAsync(UnitOfWork work, CertificateIssueRequest request, Certificate? replaces, CalibrationRun run,
+        ReferenceStandard reference, DateTimeOffset now)
+    {
+        static ProblemHttpResult Invalid(string field, string message) => Problems.NotComputable(new Dictionary<string, string[]> { [field] = [message] });
+        var calibrated = run.Fields.StartedAt;
+        var received = request.ReceivedAt!.Value;
+        if (received > now)
+        {
+            return Invalid("receivedAt", $"The date of receipt {received:yyyy-MM-dd HH:mm} UTC is in the future (now {now:yyyy-MM-dd HH:mm} UTC).");
+        }
+
+        if (received > calibrated)
+        {
+            return Invalid("receivedAt", $"The item was received ({received:yyyy-MM-dd HH:mm} UTC) after its calibration started ({calibrated:yyyy-MM-dd HH:mm} UTC).");
+        }
+
+        if (calibrated > now)
+        {
+            return Invalid("budgetId", $"The budget's run starts in the future ({calibrated:yyyy-MM-dd HH:mm} UTC).");
+        }
+
+        if (reference.Fields.DueDate < calibrated)
+        {
+            return Problems.Conflict("budgetId", "The reference standard was overdue on the run's date.",
+                $"The reference '{reference.Fields.Identity}' fell due on {reference.Fields.DueDate:yyyy-MM-dd}, before the run of {calibrated:yyyy-MM-dd}: the result is not traceable.");
+        }
+
+        if (await CertificateStore.InForceForVersionAsync(work, request.BudgetId!.Value, request.Version!.Value) is { } existing && existing.Id != replaces?.Id)
+        {
+            return Problems.Conflict("version", $"Budget {request.BudgetId} version {request.Version} already has certificate {existing.Number}.",
+                $"Certificate {existing.Number} states this version; a second one is not issued. Amend it (POST /api/v1/certificates/{existing.Id}/amend) to replace it.");
+        }
+
+        if (request.Adjusted == true)
+        {
+            var left = (await BudgetStore.GetAsync(work, request.AsLeftBudgetId!.Value))!;
+            var leftRun = (await CalibrationRunStore.GetAsync(work, left.RunId))!;
+            if (leftRun.Fields.InstrumentId != run.Fields.InstrumentId)
+            {
+                return Invalid("asLeftBudgetId", $"The as-left budget is of run {leftRun.Id} of instrument {leftRun.InstrumentAssetNumber}, not of {run.InstrumentAssetNumber}.");
+            }
+
+            if (leftRun.Fields.Condition != "as-left")
+            {
+                return Invalid("asLeftBudgetId", $"Run {leftRun.Id} of the as-left budget is recorded {leftRun.Fields.Condition}.");
+            }
+
+            if (leftRun.Fields.StartedAt <= calibrated)
+            {
+                return Invalid("asLeftBudgetId", $"The as-left run {leftRun.Id} ({leftRun.Fields.StartedAt:yyyy-MM-dd HH:mm} UTC) does not come after the as-found run ({calibrated:yyyy-MM-dd HH:mm} UTC).");
+            }
+
+            if (leftRun.Fields.StartedAt > now)
+            {
+                return Invalid("asLeftBudgetId", $"The as-left run {leftRun.Id} starts in the future.");
+            }
+
+            var leftReference = (await ReferenceStandardStore.GetAsync(work, leftRun.Fields.ReferenceId))!;
+            if (leftReference.Fields.DueDate < leftRun.Fields.StartedAt)
+            {
+                return Problems.Conflict("asLeftBudgetId", "The as-left run's reference standard was overdue on its date.",
+                    $"The reference '{leftReference.Fields.Identity}' fell due on {leftReference.Fields.DueDate:yyyy-MM-dd}, before the as-left run of {leftRun.Fields.StartedAt:yyyy-MM-dd}.");
+            }
+        }
+        else if (run.Fields.Condition == "as-found")
+        {
+            // the same calibration: the runs after this one up to the next as-found run of the instrument
+            foreach (var later in await CalibrationRunStore.LaterAsync(work, run.Fields.InstrumentId, calibrated))
+            {
+                if (later.Fields.Condition == "as-found")
+                {
+                    break;
+                }
+
+                return Problems.Conflict("adjusted", "The records hold an as-left run of this calibration.",
+                    $"Run {later.Id} of {run.InstrumentAssetNumber} ({later.Fields.StartedAt:yyyy-MM-dd HH:mm} UTC) is as left: the item was adjusted. Issue with adjusted: true and the approved budget of that run (asLeftBudgetId, asLeftVersion).");
+            }
+        }
+
+        return null;
     }
 
     // The calibration result as the version states it (the CMC floor, which evaluation governs); a version made before the

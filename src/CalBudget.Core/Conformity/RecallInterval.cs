@@ -81,6 +81,46 @@ public static class RecallInterval
         return new RecallResult(null, longestDays, end.Y, end.U, method);
     }
 
+    /// <summary>
+    /// The interval from the specified aging rate when there are too few results since the last adjustment for a fit: the
+    /// calibrated value is carried unchanged (the sign of the aging is not known) and the aging is a bound that grows
+    /// with time, rectangular: u(t)^2 = u_cal^2 + (r t)^2 / 3, U(t) = k u(t); the interval ends on the first whole day on
+    /// which y +/- U(t) reaches a limit.
+    /// </summary>
+    public static RecallResult FromSpecification(double calibratedOffset, double standardUncertainty, double coverageFactor, ToleranceLimits limits, int longestDays,
+        double agingPerDay)
+    {
+        ArgumentNullException.ThrowIfNull(limits);
+        if (longestDays is < 1 or > 36_525)
+        {
+            throw new MetrologyException("recallInterval.longestDays", "Between 1 and 36525 days.");
+        }
+
+        if (!double.IsFinite(standardUncertainty) || standardUncertainty <= 0 || !double.IsFinite(coverageFactor) || coverageFactor <= 0 || !double.IsFinite(agingPerDay))
+        {
+            throw new MetrologyException("standardUncertainty", "The result's uncertainty, coverage factor and the aging rate must be finite, the first two > 0.");
+        }
+
+        double rate = Math.Abs(agingPerDay);
+        string method = "Predictive from the specification (fewer than three results since the last adjustment for an aging fit): the as-left value carried " +
+            $"unchanged, the specified aging of {Gum.Notation.Uncertainty(rate)} per day as a bound of unknown sign growing with time (rectangular), with the " +
+            $"calibration result's uncertainty, expanded with k = {coverageFactor.ToString("0.00", System.Globalization.CultureInfo.InvariantCulture)}; the interval ends on the first day on which " +
+            "the offset with its expanded uncertainty reaches a tolerance limit.";
+        (double Y, double U) At(int day) => (calibratedOffset, coverageFactor * Math.Sqrt(standardUncertainty * standardUncertainty + Math.Pow(rate * day, 2) / 3));
+        bool Reaches((double Y, double U) p) => (limits.Upper is { } hi && p.Y + p.U >= hi) || (limits.Lower is { } lo && p.Y - p.U <= lo);
+        for (int day = 0; day <= longestDays; day++)
+        {
+            var p = At(day);
+            if (Reaches(p))
+            {
+                return new RecallResult(day, longestDays, p.Y, p.U, method);
+            }
+        }
+
+        var end = At(longestDays);
+        return new RecallResult(null, longestDays, end.Y, end.U, method);
+    }
+
     // d/dp [f(t) - f(t0)] for the model's parameters.
     private static double[] Gradient(AgingResult fit, double t, double t0)
     {

@@ -133,6 +133,16 @@ public sealed class CalibrationRunStore(IDbConnectionFactory database)
         return rows.Select(r => r.ToModel()).ToArray();
     }
 
+    /// <summary>The instrument's active runs that started after <paramref name="after"/>, oldest first.</summary>
+    public static async Task<IReadOnlyList<CalibrationRun>> LaterAsync(UnitOfWork work, long instrumentId, DateTimeOffset after)
+    {
+        ArgumentNullException.ThrowIfNull(work);
+        var rows = await work.Connection.QueryAsync<Row>(
+            $"{Select} WHERE r.instrument_id = @instrumentId AND r.retired_at IS NULL AND r.started_at > @after ORDER BY r.started_at, r.id",
+            new { instrumentId, after = Timestamps.Format(after) }, work.Transaction);
+        return rows.Select(r => r.ToModel()).ToArray();
+    }
+
     private static async Task<CalibrationRun?> GetAsync(DbConnection connection, long id, DbTransaction? tx) =>
         (await connection.QuerySingleOrDefaultAsync<Row>($"{Select} WHERE r.id = @id", new { id }, tx))?.ToModel();
 

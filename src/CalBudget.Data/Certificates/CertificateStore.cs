@@ -149,6 +149,15 @@ public sealed class CertificateStore(IDbConnectionFactory database)
         return rows.Select(r => r.ToModel()).ToArray();
     }
 
+    /// <summary>The certificate in force (issued, not amended or withdrawn) that states <paramref name="budgetId"/>'s version, if any.</summary>
+    public static async Task<Certificate?> InForceForVersionAsync(UnitOfWork work, long budgetId, int version)
+    {
+        ArgumentNullException.ThrowIfNull(work);
+        return (await work.Connection.QueryFirstOrDefaultAsync<Row>(
+            $"SELECT {Columns} FROM certificates WHERE budget_id = @budgetId AND budget_version = @version AND state = 'issued' ORDER BY id LIMIT 1",
+            new { budgetId, version }, work.Transaction))?.ToModel();
+    }
+
     /// <summary>The instrument's certificates in force or amended (not withdrawn), oldest first, for its history.</summary>
     public static async Task<IReadOnlyList<Certificate>> HistoryAsync(UnitOfWork work, long instrumentId)
     {

@@ -144,3 +144,17 @@ public class StudentConformityTests
         Check.Relative(0.975, d.ProbabilityOfConformity, 1e-6, "Decide with nu");
     }
 }
+
+public class SpecifiedAgingRecallTests
+{
+    [Fact]
+    public void TooFewResultsForAFitFallBackToTheSpecifiedRateAsAGrowingBound()
+    {
+        // by hand: y = 0, u = 1e-9, k = 2, limits +/-2e-8, rate 1e-10 per day: 2 sqrt(1e-18 + (1e-10 t)^2 / 3) >= 2e-8 when
+        // t^2 >= 3 (1e-16 - 1e-18) / 1e-20 = 29700, t >= 172.34: the first whole day is 173
+        var r = RecallInterval.FromSpecification(0, 1e-9, 2, ToleranceLimits.Create(-2e-8, 2e-8), 730, 1e-10);
+        Assert.Equal(173, r.Days);
+        Assert.StartsWith("Predictive from the specification", r.Method, StringComparison.Ordinal);
+        Assert.Null(RecallInterval.FromSpecification(0, 1e-9, 2, ToleranceLimits.Create(-2e-8, 2e-8), 100, 1e-10).Days);
+    }
+}
