@@ -568,12 +568,33 @@ public static class StaffPages
             errors["receivedAt"] = ["Write the date as YYYY-MM-DD."];
         }
 
+        long? Whole(string field, string api)
+        {
+            string text = values.GetValueOrDefault(field, "").Trim();
+            if (text.Length == 0)
+            {
+                return null;
+            }
+
+            if (long.TryParse(text, NumberStyles.None, CultureInfo.InvariantCulture, out long n) && n > 0)
+            {
+                return n;
+            }
+
+            errors[api] = [$"Not a whole number: '{text}'."];
+            return null;
+        }
+
+        bool adjusted = values.GetValueOrDefault("adjusted") == "yes";
+        long? asLeftBudget = Whole("asLeftBudgetId", "asLeftBudgetId"), asLeftVersion = Whole("asLeftVersion", "asLeftVersion");
         if (errors.Count == 0)
         {
             int version = int.TryParse(values.GetValueOrDefault("version"), CultureInfo.InvariantCulture, out int v) ? v : 0;
             string rule = values.GetValueOrDefault("rule", "");
-            var request = new CertificateIssueRequest(id, version, received, values.GetValueOrDefault("itemCondition") is { Length: > 0 } c ? c : null, null, false, null, null, null,
-                rule.Length > 0 ? new DecisionRuleRequest(rule, null) : null, null, null);
+            string? lowRatioReason = values.GetValueOrDefault("lowRatioReason") is { Length: > 0 } why ? why : null;
+            var request = new CertificateIssueRequest(id, version, received, values.GetValueOrDefault("itemCondition") is { Length: > 0 } c ? c : null, null, adjusted,
+                adjusted ? asLeftBudget : null, adjusted ? (int?)asLeftVersion : null, null,
+                rule.Length > 0 ? new DecisionRuleRequest(rule, null, lowRatioReason) : null, values.GetValueOrDefault("recall") == "yes" ? new RecallRequest(null) : null, null);
             var result = await CertificatesApi.Issue(request, http, database, time, setup, readings, json, options, ct);
             if (ValueOf<CertificateDto>(result) is { } issued)
             {
