@@ -6,7 +6,8 @@ cd "$(dirname "$0")/.."
 export DOTNET_CLI_TELEMETRY_OPTOUT=1 DOTNET_NOLOGO=1 DOTNET_SKIP_FIRST_TIME_EXPERIENCE=1
 
 # Debian packages the tests use; installed only when missing (needs root, as on CI): fonts for the certificates'
-# PDFs, poppler-utils for pdftoppm (a certificate page rendered to PNG), chromium for the browser tests.
+# PDFs, poppler-utils for pdftoppm (a certificate page rendered to PNG) and pdfsig (the signature verified), chromium for the
+# browser tests.
 need=()
 for pkg in fonts-dejavu-core poppler-utils chromium ${CALBUDGET_TEST_PACKAGES:-}; do
   dpkg -s "$pkg" >/dev/null 2>&1 || need+=("$pkg")

@@ -18,8 +18,8 @@ public sealed class CertificateRenderer(CertificateFonts fonts)
     private static readonly XColor Accent = XColor.FromArgb(0x1f, 0x4e, 0x79);
     private static readonly XColor Rule = XColor.FromArgb(0xb8, 0xc4, 0xd0);
 
-    /// <summary>The PDF of <paramref name="content"/>.</summary>
-    public byte[] Render(CertificateContent content)
+    /// <summary>The PDF of <paramref name="content"/>, signed by the laboratory when <paramref name="signature"/> is given.</summary>
+    public byte[] Render(CertificateContent content, CertificateSignature? signature = null)
     {
         ArgumentNullException.ThrowIfNull(content);
         using var document = new PdfDocument();
@@ -29,6 +29,7 @@ public sealed class CertificateRenderer(CertificateFonts fonts)
         var writer = new Writer(document, fonts.Family, content);
         writer.Body();
         writer.Finish();
+        signature?.Attach(document, content, fonts.Family);
         using var stream = new MemoryStream();
         document.Save(stream, closeStream: false);
         return stream.ToArray();

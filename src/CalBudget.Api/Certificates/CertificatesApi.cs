@@ -24,7 +24,8 @@ namespace CalBudget.Api.Certificates;
 /// <param name="Renderer">The PDF layout.</param>
 /// <param name="Wording">The lab's wording blocks.</param>
 /// <param name="Fonts">The faces found at start (plots on the staff pages use them too).</param>
-public sealed record CertificateSetup(CertificateRenderer Renderer, CertificateWording Wording, Reports.Fonts.CertificateFonts Fonts);
+/// <param name="Signature">The laboratory's signature on issued PDFs; null in Production without a configured signing certificate (nothing is issued then).</param>
+public sealed record CertificateSetup(CertificateRenderer Renderer, CertificateWording Wording, Reports.Fonts.CertificateFonts Fonts, CertificateSignature? Signature = null);
 
 /// <summary>/api/v1/certificates: issue from an approved budget version, read, the PDF, amend, withdraw, list.</summary>
 public static class CertificatesApi
@@ -44,12 +45,15 @@ public static class CertificatesApi
 
         routes.MapGroup("/api/v1/certificates").WithTags("Certificates").RequireAuthorization(Policies.Issuer)
             .MapPost("/", Issue).WithName("IssueCertificate").WithSummary("Issue a certificate from an approved budget version")
-            .WithDescription("409 when the version is not approved (a draft or superseded one); 422 names a budget or version that does not exist, or a recall "
+            .WithDescription("The PDF is signed with the laboratory's key (503 in Production when none is configured). 409 when the version is not approved (a draft or superseded one), "
+                + "already has a certificate in force, its run's reference was overdue on the run's date, or the records hold an as-left run while the request says no adjustment; "
+                + "422 names a date out of order or in the future, an as-left budget of another instrument or run, a budget or version that does not exist, or a recall "
                 + "interval without the three dated results an aging fit needs. The tolerance defaults to the instrument's specification; a decision rule without "
                 + "either is refused (400, tolerance).")
             .Accepts<CertificateIssueRequest>("application/json")
             .Produces<CertificateDto>(StatusCodes.Status201Created)
-            .ProducesValidationProblem(StatusCodes.Status400BadRequest).ProducesProblem(StatusCodes.Status409Conflict).ProducesValidationProblem(StatusCodes.Status422UnprocessableEntity);
+            .ProducesValidationProblem(StatusCodes.Status400BadRequest).ProducesProblem(StatusCodes.Status409Conflict).ProducesValidationProblem(StatusCodes.Status422UnprocessableEntity)
+            .ProducesProblem(StatusCodes.Status503ServiceUnavailable);
 
         var approve = routes.MapGroup("/api/v1/certificates").WithTags("Certificates").RequireAuthorization(Policies.Approver);
         approve.MapPost("/{id:long}/amend", Amend).WithName("AmendCertificate")
@@ -58,7 +62,7 @@ public static class CertificatesApi
             .Accepts<CertificateAmendRequest>("application/json")
             .Produces<CertificateDto>(StatusCodes.Status201Created)
             .ProducesValidationProblem(StatusCodes.Status400BadRequest).ProducesProblem(StatusCodes.Status404NotFound).ProducesProblem(StatusCodes.Status409Conflict)
-            .ProducesValidationProblem(StatusCodes.Status422UnprocessableEntity);
+            .ProducesValidationProblem(StatusCodes.Status422UnprocessableEntity).ProducesProblem(StatusCodes.Status503ServiceUnavailable);
         approve.MapPost("/{id:long}/withdraw", Withdraw).WithName("WithdrawCertificate").WithSummary("Withdraw an issued certificate, with the reason")
             .Accepts<CertificateWithdrawRequest>("application/json")
             .Produces<CertificateDto>(StatusCodes.Status200OK)
@@ -342,7 +346,13 @@ public static class CertificatesApi
             return Problems.FromMetrology(ex);
         }
 
-        byte[] pdf = setup.Renderer.Render(composed.Content);
+        if (setup.Signature is null)
+        {
+            return Problems.Status(StatusCodes.Status503ServiceUnavailable, "No signing certificate is configured.",
+                "An issued certificate carries the laboratory's digital signature: set CalBudget:SigningCertificatePath (a PKCS#12 file) and SigningCertificatePassword.");
+        }
+
+        byte[] pdf = setup.Renderer.Render(composed.Content, setup.Signature);
         string sha = Convert.ToHexStringLower(SHA256.HashData(pdf));
         long id = await CertificateStore.IssueAsync(work, new NewCertificate(number, budget.Id, version.Number, instrument.Id, instrument.Fields.Customer, replaces?.Id, note,
             JsonSerializer.Serialize(request, o), JsonSerializer.Serialize(composed.Result, o),

@@ -18,6 +18,12 @@ public sealed class CalBudgetOptions
     /// <summary>A folder of TrueType fonts for certificates (a regular and a bold .ttf); null searches the system font folders.</summary>
     public string? FontDirectory { get; set; }
 
+    /// <summary>The laboratory's PKCS#12 file (certificate and private key) that signs issued PDFs; empty: a self-signed demo certificate outside Production, none in Production.</summary>
+    public string? SigningCertificatePath { get; set; }
+
+    /// <summary>The password of <see cref="SigningCertificatePath"/>.</summary>
+    public string? SigningCertificatePassword { get; set; }
+
     /// <summary>
     /// The certificate number pattern: {yyyy}, {yy}, {MM} from the issue date and {seq} (or {seq:0000}, zero-padded) counting
     /// the certificates whose numbers share the text before it.

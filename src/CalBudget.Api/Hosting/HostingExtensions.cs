@@ -77,8 +77,11 @@ public static class HostingExtensions
         {
             var o = sp.GetRequiredService<IOptions<CalBudgetOptions>>().Value;
             var fonts = CalBudget.Reports.Fonts.CertificateFonts.Find(o.FontDirectory);
-            return new Certificates.CertificateSetup(new CalBudget.Reports.CertificateRenderer(fonts),
-                Certificates.CertificateWording.Load(Path.Combine(AppContext.BaseDirectory, o.TemplatesDirectory, "wording", "certificate.json")), fonts);
+            var wording = Certificates.CertificateWording.Load(Path.Combine(AppContext.BaseDirectory, o.TemplatesDirectory, "wording", "certificate.json"));
+            // the lab's signing key is read (or, outside Production without one, a self-signed demo key made) once at start
+            var signature = Certificates.LabSigning.Load(o.SigningCertificatePath, o.SigningCertificatePassword, o.DataDirectory, wording.LabName,
+                sp.GetRequiredService<IHostEnvironment>().IsProduction(), sp.GetRequiredService<TimeProvider>());
+            return new Certificates.CertificateSetup(new CalBudget.Reports.CertificateRenderer(fonts), wording, fonts, signature);
         });
         builder.Services.AddSingleton(sp => new ApiKeyStore(sp.GetRequiredService<IDbConnectionFactory>(), sp.GetRequiredService<TimeProvider>())
         {
