@@ -124,7 +124,7 @@ public sealed class AuthTests : IDisposable
     [Fact]
     public async Task DemoKeysAndRecordsExistOnlyInDevelopment()
     {
-        var (_, _, demoKey) = DatabaseStartup.DemoKeys[0];
+        var (_, _, demoKey, _) = DatabaseStartup.DemoKeys[0];
         using (var development = new ServiceFactory("Development"))
         {
             var client = development.ClientWithKey(demoKey);

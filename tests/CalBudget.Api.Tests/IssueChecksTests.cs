@@ -149,3 +149,27 @@ public sealed class IssueChecksTests : IDisposable
         Assert.DoesNotContain("no adjustment was made", text, StringComparison.Ordinal);
     }
 }
+
+public sealed class NamedApproverTests : IDisposable
+{
+    private readonly ServiceFactory _factory = new();
+
+    public void Dispose() => _factory.Dispose();
+
+    [Fact]
+    public async Task AKeyWithoutANamedHolderCannotApprove()
+    {
+        var tech = await _factory.ClientAsync("technician", holder: "kim");
+        long run = await LabRecords.RunWithReadingsAsync(tech, "CB-0710");
+        long budget = (await Json.PostAsync(tech, "/api/v1/budgets", $$"""{ "runId": {{run}}, "templateId": "ocxo-counter" }""", HttpStatusCode.Created))["id"]!.GetValue<long>();
+        var stranger = await _factory.ClientAsync("approver"); // no holder: its name would stand in for a person nobody can identify
+        var refused = await Json.ProblemAsync(await stranger.PostAsync($"/api/v1/budgets/{budget}/versions/1/approve", Json.Body("{}")), HttpStatusCode.Forbidden);
+        Assert.Contains("named holder", refused["title"]!.GetValue<string>(), StringComparison.Ordinal);
+        var named = await _factory.ClientAsync("approver", holder: "ola");
+        await Json.PostAsync(named, $"/api/v1/budgets/{budget}/versions/1/approve", "{}", HttpStatusCode.OK);
+        var cert = await Json.PostAsync(tech, "/api/v1/certificates",
+            $$"""{ "budgetId": {{budget}}, "version": 1, "receivedAt": "2026-11-27T00:00:00Z", "itemCondition": "no visible damage" }""", HttpStatusCode.Created);
+        await Json.ProblemAsync(await stranger.PostAsync($"/api/v1/certificates/{cert["id"]}/withdraw", Json.Body("""{ "reason": "r" }""")), HttpStatusCode.Forbidden);
+        await Json.ProblemAsync(await stranger.PostAsync($"/api/v1/certificates/{cert["id"]}/amend", Json.Body("""{ "note": "n" }""")), HttpStatusCode.Forbidden);
+    }
+}

@@ -202,7 +202,7 @@ public sealed class RoleMatrixTests : IClassFixture<RoleMatrixTests.Service>
         {
             if (!_clients.TryGetValue(role, out var client))
             {
-                _clients[role] = client = await Factory.ClientAsync(role);
+                _clients[role] = client = await Factory.ClientAsync(role, holder: "person-" + role); // approvals are by named people
             }
 
             return client;

@@ -41,7 +41,8 @@ public sealed class ApiKeyAuthenticationHandler(
         }
 
         var principal = new ClaimsPrincipal(new ClaimsIdentity(
-            [new Claim(ClaimTypes.Name, identity.Name), new Claim(ClaimTypes.Role, identity.Role), new Claim(Hosting.Conventions.HolderClaim, identity.Holder)], SchemeName));
+            [new Claim(ClaimTypes.Name, identity.Name), new Claim(ClaimTypes.Role, identity.Role), new Claim(Hosting.Conventions.HolderClaim, identity.Holder),
+                new Claim(Hosting.Conventions.HolderNamedClaim, identity.HolderNamed ? "true" : "false")], SchemeName));
         return AuthenticateResult.Success(new AuthenticationTicket(principal, SchemeName));
     }
 

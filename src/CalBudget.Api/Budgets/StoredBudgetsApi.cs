@@ -284,6 +284,11 @@ public static class StoredBudgetsApi
             return Problems.Invalid(errors.ToDictionary());
         }
 
+        if (!Conventions.IsNamedPerson(http.User))
+        {
+            return Conventions.Unnamed(http.User);
+        }
+
         string actor = Conventions.Actor(http.User);
         var now = time.GetUtcNow();
         await using var work = await UnitOfWork.BeginAsync(database, ct);

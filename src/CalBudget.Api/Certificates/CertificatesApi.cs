@@ -137,6 +137,11 @@ public static class CertificatesApi
             return Problems.Invalid(errors.ToDictionary());
         }
 
+        if (!Conventions.IsNamedPerson(http.User))
+        {
+            return Conventions.Unnamed(http.User);
+        }
+
         await using var work = await UnitOfWork.BeginAsync(database, ct);
         if (await CertificateStore.GetAsync(work, id) is not { } old)
         {
@@ -175,6 +180,11 @@ public static class CertificatesApi
         if (!errors.IsEmpty || reason is null)
         {
             return Problems.Invalid(errors.ToDictionary());
+        }
+
+        if (!Conventions.IsNamedPerson(http.User))
+        {
+            return Conventions.Unnamed(http.User);
         }
 
         var now = time.GetUtcNow();

@@ -126,6 +126,24 @@ public static class Conventions
     /// <summary>The claim naming the person behind a key.</summary>
     public const string HolderClaim = "holder";
 
+    /// <summary>On an API key's principal: "false" when the key has no named holder.</summary>
+    public const string HolderNamedClaim = "holder-named";
+
+    /// <summary>
+    /// Whether the caller is a person one can name: a signed-in user, or a key with a named holder. A key without one
+    /// cannot approve anything, since the two-person rule compares people.
+    /// </summary>
+    public static bool IsNamedPerson(ClaimsPrincipal user)
+    {
+        ArgumentNullException.ThrowIfNull(user);
+        return user.FindFirst(HolderNamedClaim)?.Value != "false";
+    }
+
+    /// <summary>The 403 for an approval by a key without a named holder.</summary>
+    public static Microsoft.AspNetCore.Http.HttpResults.ProblemHttpResult Unnamed(ClaimsPrincipal user) =>
+        Problems.Status(StatusCodes.Status403Forbidden, "A key without a named holder cannot approve.",
+            $"The key '{Actor(user)}' names no person; the two-person rule compares people. Use a key created with a holder (keys create --holder) or sign in.");
+
     /// <summary>The person asking: the key's holder (one person may hold several keys), else its name.</summary>
     public static string Person(ClaimsPrincipal user)
     {

@@ -10,14 +10,14 @@ namespace CalBudget.Api.Hosting;
 /// </summary>
 public static class DatabaseStartup
 {
-    /// <summary>The demo keys: name, role and value. Demo only: they are public, in the README.</summary>
-    public static IReadOnlyList<(string Name, string Role, string Key)> DemoKeys { get; } =
+    /// <summary>The demo keys: name, role, value and the invented person who holds it. Demo only: they are public, in the README.</summary>
+    public static IReadOnlyList<(string Name, string Role, string Key, string Holder)> DemoKeys { get; } =
     [
-        ("demo-technician", Roles.Technician, "cbk_de00000000000001_demo-technician-key-not-for-production"),
-        ("demo-approver", Roles.Approver, "cbk_de00000000000002_demo-approver-key-not-for-production"),
-        ("demo-auditor", Roles.Auditor, "cbk_de00000000000003_demo-auditor-key-not-for-production"),
-        ("demo-integration", Roles.Integration, "cbk_de00000000000004_demo-integration-key-not-for-production"),
-        ("demo-admin", Roles.Admin, "cbk_de00000000000005_demo-admin-key-not-for-production"),
+        ("demo-technician", Roles.Technician, "cbk_de00000000000001_demo-technician-key-not-for-production", "demo-technician"),
+        ("demo-approver", Roles.Approver, "cbk_de00000000000002_demo-approver-key-not-for-production", "demo-approver"),
+        ("demo-auditor", Roles.Auditor, "cbk_de00000000000003_demo-auditor-key-not-for-production", "demo-auditor"),
+        ("demo-integration", Roles.Integration, "cbk_de00000000000004_demo-integration-key-not-for-production", "demo-integration"),
+        ("demo-admin", Roles.Admin, "cbk_de00000000000005_demo-admin-key-not-for-production", "demo-admin"),
     ];
 
     /// <summary>Migrates, then seeds a new Development database.</summary>
@@ -34,9 +34,9 @@ public static class DatabaseStartup
         if (seedDemoData && result.CreatedNew)
         {
             var keys = services.GetRequiredService<ApiKeyStore>();
-            foreach (var (name, role, key) in DemoKeys)
+            foreach (var (name, role, key, holder) in DemoKeys)
             {
-                await keys.InsertDemoKeyAsync(name, role, key, ct);
+                await keys.InsertDemoKeyAsync(name, role, key, holder, ct);
             }
 
             var users = services.GetRequiredService<Auth.UserAccounts>();

@@ -17,7 +17,8 @@ public sealed record ApiKeyInfo(string Name, string Role, string KeyId, DateTime
 /// <param name="Name">The key's label, used as the actor.</param>
 /// <param name="Role">Its role.</param>
 /// <param name="Holder">The person who holds it (several keys may share one).</param>
-public sealed record ApiKeyIdentity(string Name, string Role, string Holder);
+/// <param name="HolderNamed">False when no holder was named, so that the key's name stands in for a person nobody can identify.</param>
+public sealed record ApiKeyIdentity(string Name, string Role, string Holder, bool HolderNamed = true);
 
 /// <summary>Why a key operation was refused.</summary>
 public enum ApiKeyProblem
@@ -75,14 +76,14 @@ public sealed class ApiKeyStore(IDbConnectionFactory database, TimeProvider time
     }
 
     /// <summary>Stores a key whose value is fixed in advance (the Development demo keys listed in the README).</summary>
-    public Task InsertDemoKeyAsync(string name, string role, string key, CancellationToken ct = default)
+    public Task InsertDemoKeyAsync(string name, string role, string key, string? holder = null, CancellationToken ct = default)
     {
         if (!TryParse(key, out string keyId, out string secret))
         {
             throw new ApiKeyException(ApiKeyProblem.Invalid, "The demo key is not in the key format.");
         }
 
-        return InsertAsync(name, role, keyId, secret, isDemo: true, "demo-seed", ct);
+        return InsertAsync(name, role, keyId, secret, isDemo: true, "demo-seed", ct, holder);
     }
 
     private const string InsertSql = """
@@ -137,7 +138,7 @@ public sealed class ApiKeyStore(IDbConnectionFactory database, TimeProvider time
         await work.CommitAsync(ct).ConfigureAwait(false);
     }
 
-    private const string FindSql = "SELECT name, role, coalesce(holder, name) AS holder, salt, secret_hash AS secretHash, revoked_at AS revokedAt FROM api_keys WHERE key_id = @keyId";
+    private const string FindSql = "SELECT name, role, coalesce(holder, name) AS holder, salt, secret_hash AS secretHash, revoked_at AS revokedAt, holder IS NOT NULL AS holderNamed FROM api_keys WHERE key_id = @keyId";
 
     /// <summary>The identity behind <paramref name="key"/>, or null when it is malformed, unknown or revoked.</summary>
     public async Task<ApiKeyIdentity?> AuthenticateAsync(string key, CancellationToken ct = default)
@@ -166,7 +167,7 @@ public sealed class ApiKeyStore(IDbConnectionFactory database, TimeProvider time
             return null;
         }
 
-        var identity = new ApiKeyIdentity(row.Name, row.Role, row.Holder);
+        var identity = new ApiKeyIdentity(row.Name, row.Role, row.Holder, row.HolderNamed != 0);
         if (CacheLifetime > TimeSpan.Zero && _cache.Count < CacheLimit)
         {
             long expires = now + (long)(CacheLifetime.TotalSeconds * time.TimestampFrequency);
@@ -244,7 +245,7 @@ public sealed class ApiKeyStore(IDbConnectionFactory database, TimeProvider time
 
     private sealed record CachedKey(ApiKeyIdentity Identity, byte[] Salt, byte[] SecretHash, long ExpiresAt);
 
-    private sealed record KeyRow(string Name, string Role, string Holder, byte[] Salt, byte[] SecretHash, string? RevokedAt);
+    private sealed record KeyRow(string Name, string Role, string Holder, byte[] Salt, byte[] SecretHash, string? RevokedAt, long HolderNamed);
 
     private sealed record ListRow(string Name, string Role, string KeyId, string CreatedAt, string? RevokedAt, long IsDemo);
 }
