@@ -60,25 +60,13 @@ public static class RecallInterval
             return (calibratedOffset + fit.ValueAt(t) - fit.ValueAt(calibrationDay), coverageFactor * Math.Sqrt(variance));
         }
 
-        bool Reaches((double Y, double U) p) => (limits.Upper is { } hi && p.Y + p.U >= hi) || (limits.Lower is { } lo && p.Y - p.U <= lo);
-
         string model = fit.Model == AgingModel.Linear ? "linear" : "logarithmic";
         string method = $"Predictive: the as-left value carried forward by the {model} aging fit of the instrument's dated results " +
             $"({fit.DegreesOfFreedom + fit.Parameters.Length} points since the last adjustment, each weighted by its own U / k), with its uncertainty from the calibration result, " +
             "the fit's covariance and its residual scatter (aging is counted once: in the drift, not in the calibration uncertainty), " +
             $"expanded with k = {coverageFactor.ToString("0.00", System.Globalization.CultureInfo.InvariantCulture)}; the interval ends on the first day " +
             "on which the offset with its expanded uncertainty reaches a tolerance limit.";
-        for (int day = 0; day <= longestDays; day++)
-        {
-            var p = At(day);
-            if (Reaches(p))
-            {
-                return new RecallResult(day, longestDays, p.Y, p.U, method);
-            }
-        }
-
-        var end = At(longestDays);
-        return new RecallResult(null, longestDays, end.Y, end.U, method);
+        return Scan(At, limits, longestDays, method);
     }
 
     /// <summary>
@@ -106,18 +94,22 @@ public static class RecallInterval
             $"unchanged, the specified aging of {Gum.Notation.Uncertainty(rate)} per day as a bound of unknown sign growing with time (rectangular), with the " +
             $"calibration result's uncertainty, expanded with k = {coverageFactor.ToString("0.00", System.Globalization.CultureInfo.InvariantCulture)}; the interval ends on the first day on which " +
             "the offset with its expanded uncertainty reaches a tolerance limit.";
-        (double Y, double U) At(int day) => (calibratedOffset, coverageFactor * Math.Sqrt(standardUncertainty * standardUncertainty + Math.Pow(rate * day, 2) / 3));
-        bool Reaches((double Y, double U) p) => (limits.Upper is { } hi && p.Y + p.U >= hi) || (limits.Lower is { } lo && p.Y - p.U <= lo);
+        return Scan(day => (calibratedOffset, coverageFactor * Math.Sqrt(standardUncertainty * standardUncertainty + Math.Pow(rate * day, 2) / 3)), limits, longestDays, method);
+    }
+
+    // The first whole day on which y(day) +/- U(day) reaches a limit, or none within the longest interval.
+    private static RecallResult Scan(Func<int, (double Y, double U)> at, ToleranceLimits limits, int longestDays, string method)
+    {
         for (int day = 0; day <= longestDays; day++)
         {
-            var p = At(day);
-            if (Reaches(p))
+            var (y, u) = at(day);
+            if ((limits.Upper is { } hi && y + u >= hi) || (limits.Lower is { } lo && y - u <= lo))
             {
-                return new RecallResult(day, longestDays, p.Y, p.U, method);
+                return new RecallResult(day, longestDays, y, u, method);
             }
         }
 
-        var end = At(longestDays);
+        var end = at(longestDays);
         return new RecallResult(null, longestDays, end.Y, end.U, method);
     }
 
