@@ -145,6 +145,7 @@ public static class StoredBudgetsApi
         }
 
         var (ra, rb) = (Result(a, json), Result(b, json));
+        var (sa, sb) = (Stages(a, json), Stages(b, json));
         var (la, lb) = (Lines(a, json).ToDictionary(l => l.Name), Lines(b, json).ToDictionary(l => l.Name));
         var ua = ra.Contributions.ToDictionary(c => c.Name, c => c.StandardUncertainty);
         var ub = rb.Contributions.ToDictionary(c => c.Name, c => c.StandardUncertainty);
@@ -156,14 +157,13 @@ public static class StoredBudgetsApi
             double? u1 = ua.TryGetValue(n, out double p) ? p : null;
             double? u2 = ub.TryGetValue(n, out double q) ? q : null;
             // an in-use line's u is that of the prediction's evaluation
-            u1 ??= x?.Stage == "in-use" ? Stages(a, json)?.Prediction?.Result.Contributions.FirstOrDefault(c => c.Name == n)?.StandardUncertainty : null;
-            u2 ??= y?.Stage == "in-use" ? Stages(b, json)?.Prediction?.Result.Contributions.FirstOrDefault(c => c.Name == n)?.StandardUncertainty : null;
+            u1 ??= x?.Stage == "in-use" ? sa?.Prediction?.Result.Contributions.FirstOrDefault(c => c.Name == n)?.StandardUncertainty : null;
+            u2 ??= y?.Stage == "in-use" ? sb?.Prediction?.Result.Contributions.FirstOrDefault(c => c.Name == n)?.StandardUncertainty : null;
             string change = x is null ? "added" : y is null ? "removed"
                 : u1 == u2 && (x.Input.Estimate ?? 0) == (y.Input.Estimate ?? 0) && x.Source == y.Source && x.Stage == y.Stage ? "same" : "changed";
             return new ContributionDiffDto(n, change, [u1, u2], [x?.Input.Estimate ?? (x is null ? null : 0), y?.Input.Estimate ?? (y is null ? null : 0)], [x?.Source, y?.Source],
                 [x?.Stage, y?.Stage]);
         }).ToArray();
-        var (sa, sb) = (Stages(a, json), Stages(b, json));
         return TypedResults.Ok(new BudgetDiffDto(a.Number, b.Number, rows, [ra.Estimate, rb.Estimate],
             [sa?.Calibration.ExpandedUncertainty ?? ra.ExpandedUncertainty, sb?.Calibration.ExpandedUncertainty ?? rb.ExpandedUncertainty],
             [sa?.Prediction?.Result.Estimate, sb?.Prediction?.Result.Estimate], [sa?.Prediction?.Result.ExpandedUncertainty, sb?.Prediction?.Result.ExpandedUncertainty]));
@@ -392,29 +392,9 @@ public static class StoredBudgetsApi
             return Refused($"overrides.{x.Name}", $"The template has no contribution named '{x.Name}'.");
         }
 
-        // the calibration lines first: the aging of the in-use prediction is fitted with this calibration result as its newest point
-        foreach (var stage in new[] { BudgetStage.Calibration, BudgetStage.InUse })
+        string? AddLines(BudgetStage stage, out string message)
         {
-            if (stage == BudgetStage.InUse)
-            {
-                if (template.Contributions.All(c => c.Stage != BudgetStage.InUse))
-                {
-                    break;
-                }
-
-                var calibration = Evaluate(lines, template, instrument.Fields.AssetNumber, null, options, ct);
-                if (calibration.Problem is { } failed)
-                {
-                    return new Built(null, null, null, failed);
-                }
-
-                // an as-left run follows an adjustment: the drift starts again from it
-                var history = await InstrumentHistory.CertificatesAsync(work, instrument.Id, f.StartedAt, budgetId, o);
-                history.Add(new HistoryPoint(f.StartedAt, calibration.Response!.Estimate, calibration.Response.ExpandedUncertainty, calibration.Response.CoverageFactor,
-                    f.Condition == "as-left"));
-                specInputs = specInputs with { AgingFit = InstrumentHistory.ForBudget(InstrumentHistory.SinceLastAdjustment(history)) };
-            }
-
+            message = "";
             foreach (var c in template.Contributions.Where(c => c.Stage == stage))
             {
                 var replaced = overrides.FirstOrDefault(x => x.Name == c.Name);
@@ -435,21 +415,43 @@ public static class StoredBudgetsApi
                 }
                 catch (MetrologyException ex)
                 {
-                    return Refused(ex.Parameter.StartsWith("posturePolicy", StringComparison.Ordinal) || ex.Parameter.StartsWith("run.", StringComparison.Ordinal)
-                        ? ex.Parameter : $"contributions.{c.Name}", ex.Message);
+                    message = ex.Message;
+                    return ex.Parameter.StartsWith("posturePolicy", StringComparison.Ordinal) || ex.Parameter.StartsWith("run.", StringComparison.Ordinal)
+                        ? ex.Parameter : $"contributions.{c.Name}";
                 }
             }
+
+            return null;
         }
 
-        // a Monte Carlo request without a seed gets one now, kept in the snapshot, so that the version can be re-evaluated to the last digit
+        if (AddLines(BudgetStage.Calibration, out string calibrationRefusal) is { } calibrationField)
+        {
+            return Refused(calibrationField, calibrationRefusal);
+        }
+
+        // the calibration result, evaluated once: it is stored, and the aging of the in-use prediction is fitted with it as
+        // the newest point. A Monte Carlo request without a seed gets one now, kept in the snapshot, so that the version can
+        // be re-evaluated to the last digit.
         var mc = monteCarlo is null ? null : monteCarlo with { Seed = monteCarlo.Seed ?? BitConverter.ToUInt64(System.Security.Cryptography.RandomNumberGenerator.GetBytes(8)) };
-        var calibrationLines = lines.Where(l => l.Stage != "in-use").ToList();
+        var calibrationLines = lines.ToList();
         var evaluate = new EvaluateRequest($"fractional frequency offset of the timebase of {instrument.Fields.AssetNumber}", template.CoverageProbability,
             calibrationLines.Select(l => l.Input).ToArray(), null, mc);
         var (result, problem) = BudgetsApi.Compute(evaluate, options.Value.MonteCarloMaxTrials, ct);
         if (problem is not null)
         {
             return new Built(null, null, null, problem);
+        }
+
+        if (template.Contributions.Any(c => c.Stage == BudgetStage.InUse))
+        {
+            // an as-left run follows an adjustment: the drift starts again from it
+            var history = await InstrumentHistory.CertificatesAsync(work, instrument.Id, f.StartedAt, budgetId, o);
+            history.Add(new HistoryPoint(f.StartedAt, result!.Estimate, result.ExpandedUncertainty, result.CoverageFactor, f.Condition == "as-left"));
+            specInputs = specInputs with { AgingFit = InstrumentHistory.ForBudget(InstrumentHistory.SinceLastAdjustment(history)) };
+            if (AddLines(BudgetStage.InUse, out string inUseRefusal) is { } inUseField)
+            {
+                return Refused(inUseField, inUseRefusal);
+            }
         }
 
         PredictionDto? prediction = null;
@@ -482,11 +484,6 @@ public static class StoredBudgetsApi
         return new Built(JsonSerializer.Serialize(snapshot, o), JsonSerializer.Serialize(result, o), upload?.Id, null,
             JsonSerializer.Serialize(new BudgetStagesDto(stated, prediction), o));
     }
-
-    private static (EvaluateResponse? Response, ProblemHttpResult? Problem) Evaluate(IEnumerable<BudgetLineDto> lines, BudgetTemplate template, string asset,
-        MonteCarloRequest? mc, IOptions<CalBudgetOptions> options, CancellationToken ct) =>
-        BudgetsApi.Compute(new EvaluateRequest($"fractional frequency offset of the timebase of {asset}", template.CoverageProbability,
-            lines.Select(l => l.Input).ToArray(), null, mc), options.Value.MonteCarloMaxTrials, ct);
 
     /// <summary>
     /// The calibration result as stated: U never below the CMC that covers the result (ILAC-P14), k as the budget's, u = U / k;
@@ -590,8 +587,10 @@ public static class StoredBudgetsApi
     private static BudgetDto ToDto(Budget b, BudgetVersion latest, IOptions<JsonOptions> json) =>
         new(b.Id, b.RunId, b.TemplateId, b.CreatedAt, b.CreatedBy, b.LatestVersion, ToVersionDto(b, latest, json));
 
-    private static BudgetVersionDto ToVersionDto(Budget b, BudgetVersion v, IOptions<JsonOptions> json) =>
+    private static BudgetVersionDto ToVersionDto(Budget b, BudgetVersion v, IOptions<JsonOptions> json) => ToVersionDto(b, v, json, Stages(v, json));
+
+    private static BudgetVersionDto ToVersionDto(Budget b, BudgetVersion v, IOptions<JsonOptions> json, BudgetStagesDto? stages) =>
         new(v.BudgetId, v.Number, v.State, v.Reason, b.TemplateId, v.TemplateVersion, v.EngineVersion, v.MadeAt, v.MadeBy, v.ApprovedAt, v.ApprovedBy,
-            v.SignatureMeaning, v.SupersededAt, Lines(v, json), Result(v, json), JsonDocument.Parse(v.Snapshot).RootElement.Clone(), Stages(v, json)?.Calibration,
-            Stages(v, json)?.Prediction);
+            v.SignatureMeaning, v.SupersededAt, Lines(v, json), Result(v, json), JsonDocument.Parse(v.Snapshot).RootElement.Clone(), stages?.Calibration,
+            stages?.Prediction);
 }
